@@ -1,0 +1,10 @@
+"""Registry of the subcommands beyond ``check``: name -> (summary, arguments, run)."""
+
+from __future__ import annotations
+
+import argparse
+from collections.abc import Callable
+
+Command = tuple[str, Callable[[argparse.ArgumentParser], None], Callable[[argparse.Namespace], int]]
+
+COMMANDS: dict[str, Command] = {}

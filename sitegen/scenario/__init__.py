@@ -1,0 +1,1 @@
+"""Stage 1: reading and validating scenario files (the only stage that reads input)."""

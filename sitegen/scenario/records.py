@@ -1,0 +1,167 @@
+"""Plain records for a loaded scenario: what every later stage reads.
+
+Values are in the units the scenario declares (each record carries its unit
+string); time is in the model's ``time_unit``. Names are the scenario's own.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import sympy
+
+from sitegen.scenario.formula import ParsedFormula
+
+
+@dataclass(frozen=True)
+class StateSpec:
+    """The single state variable and the region of it that is analysed."""
+
+    symbol: str
+    name: str
+    unit: str
+    min: float
+    max: float | None
+    current: float | None = None
+    collapse_level: float | None = None
+
+
+@dataclass(frozen=True)
+class Parameter:
+    """A named constant of the model, in its own unit; ``range`` is explored."""
+
+    name: str
+    value: float
+    unit: str
+    label: str
+    range: tuple[float, float] | None = None
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class ModelSpec:
+    """dstate/dt = rate; ``lever`` is the parameter the manager sets."""
+
+    rate: ParsedFormula
+    lever: str | None = None
+    yield_: ParsedFormula | None = None
+    time_unit: str = "yr"
+    shock: float = 0.5
+
+
+@dataclass(frozen=True)
+class Policy:
+    """An alternative setting or harvest rule, analysed beside the base model.
+
+    Either ``values`` overrides parameter values of the base model, or ``rate``
+    (and optionally ``yield_``) replaces the model, with extra ``parameters``.
+    ``symbols`` are the names its formulas may use (base names and its own).
+    """
+
+    name: str
+    values: dict[str, float] = field(default_factory=dict)
+    rate: ParsedFormula | None = None
+    yield_: ParsedFormula | None = None
+    parameters: tuple[Parameter, ...] = ()
+    symbols: dict[str, sympy.Symbol] = field(default_factory=dict, compare=False, repr=False)
+
+
+@dataclass(frozen=True)
+class UncertainParameter:
+    """A probability distribution for one parameter.
+
+    ``numbers`` holds the distribution's own numbers: ``mean``/``sd`` (normal),
+    ``median``/``sdlog`` (lognormal; sdlog is the standard deviation of the
+    natural log), ``low``/``high`` (uniform), ``low``/``mode``/``high``
+    (triangular).
+    """
+
+    name: str
+    distribution: str
+    numbers: dict[str, float]
+
+
+@dataclass(frozen=True)
+class UncertaintySpec:
+    """How many samples to draw, with which seed, and the risk tolerance."""
+
+    samples: int = 10_000
+    seed: int = 0
+    tolerance: float = 0.05
+    parameters: tuple[UncertainParameter, ...] = ()
+
+
+@dataclass(frozen=True)
+class HistoryEntry:
+    """An earlier year's estimates and settings."""
+
+    year: int
+    values: dict[str, float]
+
+
+@dataclass(frozen=True)
+class ReferencePoints:
+    """Declared reference levels of the state (in the state's unit)."""
+
+    limit: float | None = None
+    target: float | None = None
+    trigger: float | None = None
+
+
+@dataclass(frozen=True)
+class Economics:
+    """Price per unit of yield and cost per unit of lever per unit time."""
+
+    price: float
+    cost: float
+    currency: str = ""
+
+
+@dataclass(frozen=True)
+class MapSpec:
+    """A pair of parameters for a two-parameter map."""
+
+    x: str
+    y: str
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """A validated scenario: the contract between loading and everything after.
+
+    ``symbols`` maps every name (state and parameters, including policy
+    parameters) to the SymPy symbol the formulas were built with.
+    """
+
+    slug: str
+    path: str
+    title: str
+    summary: str
+    assessment_year: int
+    state: StateSpec
+    parameters: tuple[Parameter, ...]
+    model: ModelSpec
+    symbols: dict[str, sympy.Symbol] = field(compare=False, repr=False)
+    tags: tuple[str, ...] = ()
+    notes: str = ""
+    sources: tuple[str, ...] = ()
+    policies: tuple[Policy, ...] = ()
+    uncertainty: UncertaintySpec | None = None
+    history: tuple[HistoryEntry, ...] = ()
+    reference: ReferencePoints = ReferencePoints()
+    economics: Economics | None = None
+    maps: tuple[MapSpec, ...] = ()
+    source_hash: str = ""
+    warnings: tuple[str, ...] = ()
+
+    def parameter(self, name: str) -> Parameter:
+        """The base-model parameter called ``name``."""
+        for parameter in self.parameters:
+            if parameter.name == name:
+                return parameter
+        raise KeyError(name)
+
+    @property
+    def values(self) -> dict[str, float]:
+        """Parameter name -> value for the base model."""
+        return {p.name: p.value for p in self.parameters}
