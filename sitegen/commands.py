@@ -7,4 +7,8 @@ from collections.abc import Callable
 
 Command = tuple[str, Callable[[argparse.ArgumentParser], None], Callable[[argparse.Namespace], int]]
 
-COMMANDS: dict[str, Command] = {}
+from sitegen import analyse_command
+
+COMMANDS: dict[str, Command] = {
+    "analyse": analyse_command.COMMAND,
+}

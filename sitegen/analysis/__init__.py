@@ -1,0 +1,1 @@
+"""Stage 3: analysis (equilibria, stability, bifurcations, continuation, maps)."""

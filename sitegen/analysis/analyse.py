@@ -1,0 +1,166 @@
+"""The analysis of one model, in six steps.
+
+1. Symbolic steps, batched into one killable worker under a time budget: the
+   equilibria in closed form, folds and branch points in each ranged
+   parameter, and fold curves of each two-parameter map.
+2. Numeric equilibria (scan, brentq, 30-digit polishing), always; closed forms
+   attached by matching values, disagreements recorded as warnings.
+3. Stability, return times, basins of attraction and thresholds.
+4. One-parameter continuation in each ranged parameter, special points
+   refined and classified.
+5. Two-parameter maps: the lever against each other ranged parameter, plus
+   the pairs the scenario names under [[maps]].
+6. Notes: how the region was chosen, what SymPy did and did not manage.
+"""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Sequence
+
+import sympy
+
+from sitegen.analysis import symbolic
+from sitegen.analysis.bifurcations import build_bifurcations
+from sitegen.analysis.continuation import continue_equilibria
+from sitegen.analysis.equilibria import attach_closed_forms, basins_of, find_equilibria
+from sitegen.analysis.maps import parameter_map
+from sitegen.analysis.records import Analysis, Bifurcation, Branch, ParameterMap
+from sitegen.model.model import Model, build_model
+from sitegen.scenario.records import Scenario
+
+LONGEST_CLOSED_FORM = 400  # characters; longer ones are not useful to a reader
+
+
+def map_pairs(model: Model, extra: Sequence[tuple[str, str]] = ()) -> list[tuple[str, str]]:
+    """Parameter pairs for two-parameter maps: lever against each ranged parameter, + extra."""
+    pairs: list[tuple[str, str]] = []
+    if model.lever and model.lever in model.ranges:
+        pairs.extend((model.lever, other) for other in model.ranged if other != model.lever)
+    for pair in extra:
+        if pair not in pairs and pair[::-1] not in pairs:
+            pairs.append(pair)
+    return pairs
+
+
+def _symbolic_steps(model: Model, pairs: list[tuple[str, str]]) -> list[symbolic.Step]:
+    steps = [symbolic.Step("equilibria", symbolic.solve_for, (model.rate, model.state))]
+    low = sympy.nsimplify(model.region[0], rational=True)
+    for name in model.ranged:
+        parameter = model.symbol(name)
+        steps.append(symbolic.Step(f"folds:{name}", symbolic.fold_candidates,
+                                   (model.rate, model.state, parameter)))
+        steps.append(symbolic.Step(f"branch:{name}", symbolic.parameter_at_states,
+                                   (model.rate, model.state, parameter, [low])))
+    for first, second in pairs:
+        steps.append(symbolic.Step(f"map:{first}:{second}", symbolic.two_parameter_folds,
+                                   (model.rate, model.state, model.symbol(first),
+                                    model.symbol(second))))
+    return steps
+
+
+def _short(forms: Sequence[sympy.Expr]) -> list[sympy.Expr]:
+    return [f for f in forms if len(sympy.sstr(f)) <= LONGEST_CLOSED_FORM]
+
+
+def analyse_model(model: Model, budget_s: float = symbolic.DEFAULT_BUDGET_S,
+                  extra_maps: Sequence[tuple[str, str]] = (),
+                  with_maps: bool = True) -> Analysis:
+    """Analyse one model (see the module docstring for the steps)."""
+    timings: dict[str, float] = {}
+    notes: list[str] = []
+    warnings: list[str] = []
+    if model.region_note:
+        notes.append(model.region_note)
+    pairs = map_pairs(model, extra_maps) if with_maps else []
+
+    started = time.perf_counter()
+    outcomes = symbolic.run_steps(_symbolic_steps(model, pairs), budget_s)
+    for outcome in outcomes.values():
+        if outcome.status != symbolic.OK:
+            notes.append(f"symbolic step '{outcome.name}' {outcome.status} "
+                         f"({outcome.message}); the numeric result stands")
+    timings["symbolic"] = time.perf_counter() - started
+
+    started = time.perf_counter()
+    equilibria, equilibrium_notes = find_equilibria(model)
+    notes.extend(equilibrium_notes)
+    general = outcomes["equilibria"]
+    forms = _short(general.value) if general.status == symbolic.OK else []
+    equilibria, disagreements = attach_closed_forms(model, equilibria, forms, None)
+    if any(e.closed_form is None for e in equilibria):
+        at_values = symbolic.run_steps(
+            [symbolic.Step("equilibria at today's values", symbolic.solve_for,
+                           (model.substituted(model.rate), model.state))], budget_s)
+        outcome = at_values["equilibria at today's values"]
+        if outcome.status == symbolic.OK:
+            equilibria, more = attach_closed_forms(model, equilibria, _short(outcome.value), None)
+            disagreements.extend(more)
+            notes.append("some closed forms are given at today's parameter values, because the "
+                         "general solution was too long or not found")
+        else:
+            notes.append(f"closed forms at today's values {outcome.status}: {outcome.message}")
+    warnings.extend(dict.fromkeys(disagreements))
+    missing = [e for e in equilibria if e.closed_form is None]
+    method = "symbolic" if equilibria and not missing else "numeric"
+    if missing and forms:
+        notes.append(f"SymPy found no closed form for {len(missing)} of {len(equilibria)} "
+                     "equilibria; those are numeric (30 digits)")
+    basins, thresholds = basins_of(model, equilibria)
+    timings["equilibria"] = time.perf_counter() - started
+
+    started = time.perf_counter()
+    bifurcations: list[Bifurcation] = []
+    branches: list[Branch] = []
+    for name in model.ranged:
+        found_branches, points = continue_equilibria(model, name)
+        branches.extend(found_branches)
+        pairs_closed: list[tuple[sympy.Expr, sympy.Expr]] = []
+        for key in (f"folds:{name}", f"branch:{name}"):
+            if outcomes[key].status == symbolic.OK:
+                pairs_closed.extend(outcomes[key].value)
+        records, more = build_bifurcations(
+            model, name, [(p.parameter_value, p.state_value) for p in points], pairs_closed)
+        bifurcations.extend(records)
+        warnings.extend(more)
+    timings["continuation"] = time.perf_counter() - started
+
+    started = time.perf_counter()
+    maps: list[ParameterMap] = []
+    for first, second in pairs:
+        computed = parameter_map(model, first, second)
+        outcome = outcomes[f"map:{first}:{second}"]
+        if outcome.status == symbolic.OK and outcome.value:
+            from dataclasses import replace
+
+            closed = {k: sympy.sstr(v) for k, v in outcome.value[0].items()}
+            curves = tuple(replace(curve, closed_form=closed) for curve in computed.fold_curves)
+            computed = replace(computed, fold_curves=curves)
+        maps.append(computed)
+    timings["maps"] = time.perf_counter() - started
+
+    return Analysis(
+        slug=model.slug,
+        state_symbol=model.state.name,
+        state_unit=model.state_unit,
+        region=model.region,
+        parameters=dict(model.values),
+        equilibria=tuple(equilibria),
+        basins=tuple(basins),
+        thresholds=tuple(thresholds),
+        bifurcations=tuple(sorted(bifurcations,
+                                  key=lambda b: (b.parameter, b.parameter_value))),
+        branches=tuple(branches),
+        maps=tuple(maps),
+        method=method,
+        notes=tuple(dict.fromkeys(notes)),
+        warnings=tuple(warnings),
+        timings_s=timings,
+    )
+
+
+def analyse(scenario: Scenario, budget_s: float = symbolic.DEFAULT_BUDGET_S) -> Analysis:
+    """Build the base model of a scenario and analyse it."""
+    model = build_model(scenario)
+    extra = [(m.x, m.y) for m in scenario.maps]
+    return analyse_model(model, budget_s, extra)

@@ -1,0 +1,1 @@
+"""Stage 2: the model (SymPy expressions and their numeric versions)."""
