@@ -7,10 +7,10 @@ import time
 import mpmath
 import numpy as np
 import sympy
+from sitegen.analysis.continuation import continue_equilibria
 
 from bench.registry import Result, benchmark
 from sitegen.analysis.analyse import analyse_model
-from sitegen.analysis.continuation import continue_equilibria
 from sitegen.model.model import Model, build_model
 from sitegen.scenario.loader import load_text
 
