@@ -11,6 +11,7 @@ trusted alone.
 
 from __future__ import annotations
 
+import itertools
 from collections.abc import Mapping, Sequence
 
 import mpmath
@@ -49,9 +50,14 @@ def _polish(model: Model, x0: float, order: int, args: tuple[float, ...]) -> mpm
     slope = model.precise(order + 1)
     low, high = model.region
     try:
-        root = mpmath.findroot(lambda x: _mp(function, x, args), mpmath.mpf(x0),
-                               solver="newton", df=lambda x: _mp(slope, x, args),
-                               tol=mpmath.mpf(10) ** (-2 * DIGITS + 4), maxsteps=60)
+        root = mpmath.findroot(
+            lambda x: _mp(function, x, args),
+            mpmath.mpf(x0),
+            solver="newton",
+            df=lambda x: _mp(slope, x, args),
+            tol=mpmath.mpf(10) ** (-2 * DIGITS + 4),
+            maxsteps=60,
+        )
     except (ValueError, ZeroDivisionError, TypeError):
         return mpmath.mpf(x0)
     if isinstance(root, mpmath.mpc):
@@ -62,8 +68,9 @@ def _polish(model: Model, x0: float, order: int, args: tuple[float, ...]) -> mpm
     return root
 
 
-def classify_root(model: Model, x0: float, args: tuple[float, ...],
-                  f_scale: float, width: float) -> Equilibrium:
+def classify_root(
+    model: Model, x0: float, args: tuple[float, ...], f_scale: float, width: float
+) -> Equilibrium:
     """Polish, find multiplicity and stability of one root near ``x0``."""
     with mpmath.workdps(DIGITS + 10):
         value = _polish(model, x0, 0, args)
@@ -76,10 +83,7 @@ def classify_root(model: Model, x0: float, args: tuple[float, ...],
             derivative = _mp(model.precise(order), value, args)
         residual = abs(_mp(model.precise(0), value, args))
         slope = float(_mp(model.precise(1), value, args))
-    if order % 2 == 0:
-        stability = SEMI_STABLE
-    else:
-        stability = STABLE if derivative < 0 else UNSTABLE
+    stability = SEMI_STABLE if order % 2 == 0 else STABLE if derivative < 0 else UNSTABLE
     hyperbolic = order == 1 and derivative != 0
     return_time = 1.0 / abs(float(derivative)) if hyperbolic and stability == STABLE else None
     low, high = model.region
@@ -105,7 +109,7 @@ def boundary_limit_root(model: Model, args: tuple[float, ...], f_scale: float) -
     """
     low, high = model.region
     with np.errstate(all="ignore"):
-        at_end = float(np.asarray(model.numeric()(low, *args)))
+        at_end = float(np.asarray(model.numeric()(np.float64(low), *args)))
     if np.isfinite(at_end):
         return None
     offsets = low + (high - low) * np.array([1e-14, 1e-12, 1e-10])
@@ -116,25 +120,40 @@ def boundary_limit_root(model: Model, args: tuple[float, ...], f_scale: float) -
     return None
 
 
-def find_equilibria(model: Model, values: Mapping[str, float] | None = None
-                    ) -> tuple[list[Equilibrium], list[str]]:
+def find_equilibria(
+    model: Model, values: Mapping[str, float] | None = None
+) -> tuple[list[Equilibrium], list[str]]:
     """All equilibria in the region at these parameter values, sorted, with notes."""
     args = model.args(values)
     f_scale, width = _scales(model, args)
     notes: list[str] = []
-    found = [classify_root(model, float(x), args, f_scale, width)
-             for x in scan_roots(model, values)]
+    found = [
+        classify_root(model, float(x), args, f_scale, width) for x in scan_roots(model, values)
+    ]
     limit_root = boundary_limit_root(model, args, f_scale)
     if limit_root is not None and not any(e.on_boundary and e.value == limit_root for e in found):
         with np.errstate(all="ignore"):
             slope_near = float(model.numeric(1)(limit_root + 1e-12 * width, *args))
         stability = STABLE if slope_near < 0 else UNSTABLE
-        found.insert(0, Equilibrium(limit_root, stability, float("inf") * np.sign(slope_near),
-                                    None, 1, None, 0.0, mpmath.nstr(mpmath.mpf(limit_root), 30),
-                                    True))
-        notes.append(f"the rate is undefined at {limit_root:g} but tends to zero there, so "
-                     "that end is an equilibrium; its slope is infinite, so it has no return "
-                     "time")
+        found.insert(
+            0,
+            Equilibrium(
+                limit_root,
+                stability,
+                float("inf") * np.sign(slope_near),
+                None,
+                1,
+                None,
+                0.0,
+                mpmath.nstr(mpmath.mpf(limit_root), 30),
+                True,
+            ),
+        )
+        notes.append(
+            f"the rate is undefined at {limit_root:g} but tends to zero there, so "
+            "that end is an equilibrium; its slope is infinite, so it has no return "
+            "time"
+        )
     found.sort(key=lambda e: e.value)
     merged: list[Equilibrium] = []
     for equilibrium in found:
@@ -146,16 +165,21 @@ def find_equilibria(model: Model, values: Mapping[str, float] | None = None
     return merged, notes
 
 
-def attach_closed_forms(model: Model, equilibria: list[Equilibrium],
-                        closed_forms: Sequence[sympy.Expr], values: Mapping[str, float] | None
-                        ) -> tuple[list[Equilibrium], list[str]]:
+def attach_closed_forms(
+    model: Model,
+    equilibria: list[Equilibrium],
+    closed_forms: Sequence[sympy.Expr],
+    values: Mapping[str, float] | None,
+) -> tuple[list[Equilibrium], list[str]]:
     """Match SymPy's closed-form roots to the numeric ones; report any disagreement.
 
     A closed form that is real at these values and lies in the region but matches
     no numeric root is a disagreement and becomes a warning.
     """
-    substitutions = {model.symbols[n]: sympy.Float(v, DIGITS)
-                     for n, v in zip(model.parameters, model.args(values), strict=True)}
+    substitutions = {
+        model.symbols[n]: sympy.Float(v, DIGITS)
+        for n, v in zip(model.parameters, model.args(values), strict=True)
+    }
     low, high = model.region
     width = max(high - low, 1e-300)
     warnings: list[str] = []
@@ -170,8 +194,11 @@ def attach_closed_forms(model: Model, equilibria: list[Equilibrium],
         value = number.real
         if not low - 1e-9 * width <= value <= high + 1e-9 * width:
             continue
-        matches = [i for i, e in enumerate(result)
-                   if abs(e.value - value) <= MATCH_RELATIVE * max(width, abs(value))]
+        matches = [
+            i
+            for i, e in enumerate(result)
+            if abs(e.value - value) <= MATCH_RELATIVE * max(width, abs(value))
+        ]
         if not matches:
             warnings.append(
                 f"SymPy gives an equilibrium {sympy.sstr(form)} = {value:.10g} that the "
@@ -186,8 +213,9 @@ def attach_closed_forms(model: Model, equilibria: list[Equilibrium],
     return result, warnings
 
 
-def basins_of(model: Model, equilibria: Sequence[Equilibrium],
-              values: Mapping[str, float] | None = None) -> tuple[list[Basin], list[float]]:
+def basins_of(
+    model: Model, equilibria: Sequence[Equilibrium], values: Mapping[str, float] | None = None
+) -> tuple[list[Basin], list[float]]:
     """Intervals of the region flowing to each stable state, and the thresholds between.
 
     The flow between two neighbouring equilibria has the sign of f at the midpoint;
@@ -197,12 +225,13 @@ def basins_of(model: Model, equilibria: Sequence[Equilibrium],
     low, high = model.region
     points = [low, *[e.value for e in equilibria if low < e.value < high], high]
     by_value = {e.value: e for e in equilibria}
-    middles = np.array([(a + b) / 2 for a, b in zip(points[:-1], points[1:], strict=True)])
+    middles = np.array([(a + b) / 2 for a, b in itertools.pairwise(points)])
     with np.errstate(all="ignore"):
-        signs = np.sign(np.asarray(model.numeric()(middles, *model.args(values)), dtype=float)
-                        + 0.0 * middles)
+        signs = np.sign(
+            np.asarray(model.numeric()(middles, *model.args(values)), dtype=float) + 0.0 * middles
+        )
     pieces: list[Basin] = []
-    for (a, b), sign in zip(zip(points[:-1], points[1:], strict=True), signs, strict=True):
+    for (a, b), sign in zip(itertools.pairwise(points), signs, strict=True):
         end = a if sign < 0 else b
         attractor = end if end in by_value else None
         exit_ = None
