@@ -1,0 +1,1 @@
+"""Stage 4: time behaviour and sustainability figures of one model (imports nothing)."""

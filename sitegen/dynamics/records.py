@@ -1,0 +1,200 @@
+"""Records produced by the dynamics stage.
+
+Units: states in the model's state unit, lever values in the lever's own unit,
+times in the model's ``time_unit``, yields in state per time unit, money in the
+scenario's currency per time unit. ``None`` means "does not happen" (for a
+time) or "does not exist" (for a level), never zero.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+# Event kinds of a trajectory.
+COLLAPSE, UPPER_END, THRESHOLD, WITHIN_10, WITHIN_1 = (
+    "collapse",
+    "upper end",
+    "threshold",
+    "within 10%",
+    "within 1%",
+)
+# Fates of a trajectory.
+SETTLES, COLLAPSES, LEAVES, STILL_MOVING = "settles", "collapses", "leaves above", "still moving"
+
+
+@dataclass(frozen=True)
+class Event:
+    """The first time ``time`` at which the state reached ``level`` (``kind`` says why)."""
+
+    kind: str
+    level: float
+    time: float
+
+
+@dataclass(frozen=True)
+class Trajectory:
+    """One integrated solution x(t) from ``start``, with its events.
+
+    ``attractor`` is the stable state the start tends to (None when it leaves the
+    region); ``fate`` is one of settles, collapses, leaves above, still moving.
+    ``times`` and ``states`` are the solver's output points (for figures).
+    """
+
+    start: float
+    times: np.ndarray = field(compare=False)
+    states: np.ndarray = field(compare=False)
+    events: tuple[Event, ...]
+    attractor: float | None
+    fate: str
+    collapse_level: float
+    note: str = ""
+
+    def time_of(self, kind: str) -> float | None:
+        """First time of an event of this kind, or None if it did not happen."""
+        times = [e.time for e in self.events if e.kind == kind]
+        return min(times) if times else None
+
+
+@dataclass(frozen=True)
+class Collapse:
+    """Time to collapse with the lever past a fold, beside the bottleneck estimate.
+
+    The local normal form at the fold (x_f, p_f) is dx/dt ~ -(a + b (x - x_f)^2)
+    with a = |f_p| |p - p_f| and b = |f_xx| / 2; its passage time over the whole
+    line is ``ghost_time`` = pi / sqrt(a b) (Strogatz 2015, sec. 4.3).
+    ``collapse_time`` is integrated from ``start`` to ``collapse_level``.
+    """
+
+    lever: str
+    lever_value: float
+    fold_value: float
+    fold_state: float
+    distance: float
+    a: float
+    b: float
+    ghost_time: float
+    collapse_time: float | None
+    start: float
+    collapse_level: float
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class Recovery:
+    """Return to the stable state after a shock removing ``shock`` of it.
+
+    ``start`` = (1 - shock) * ``stable_state``; ``time_to_10`` and ``time_to_1``
+    are the times to come within 10% and 1% of it (None if it collapses instead);
+    ``return_time`` is 1/|f'(x*)| (None where f'(x*) = 0).
+    """
+
+    shock: float
+    stable_state: float
+    start: float
+    time_to_10: float | None
+    time_to_1: float | None
+    return_time: float | None
+    fate: str
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class Hysteresis:
+    """Where the lever must go back to for the lost state to return.
+
+    ``fold_value`` is where the stable state was lost; ``return_value`` where it
+    comes back (None: not inside the lever's range, i.e. irreversible there);
+    ``distance`` = |return_value - fold_value|; ``collapsed_state`` is where the
+    state goes after the loss.
+    """
+
+    lever: str
+    fold_value: float
+    fold_state: float
+    collapsed_state: float
+    return_value: float | None
+    distance: float | None
+    irreversible: bool
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class LeverLimit:
+    """The furthest lever setting that keeps a stable positive state.
+
+    ``direction`` is "largest" when raising the lever is what endangers the
+    state, "smallest" when lowering it does. ``kind`` is the bifurcation that
+    ends the stable branch there (saddle-node or transcritical). ``margin`` is
+    in lever units, positive while the current setting is on the safe side;
+    ``margin_percent`` is the margin as a percentage of the limit.
+    """
+
+    lever: str
+    direction: str
+    limit: float
+    kind: str
+    state_at_limit: float
+    current: float
+    margin: float
+    margin_percent: float | None
+    safe_interval: tuple[float, float]
+
+
+@dataclass(frozen=True)
+class SustainableYield:
+    """Maximum sustainable yield along the continued stable branch.
+
+    ``msy`` at lever ``lever_at_msy`` (E_MSY, or the quota) with state
+    ``state_at_msy`` (B_MSY); ``current_yield`` is today's sustainable yield at
+    today's lever setting (None without a stable positive state).
+    ``at_fold`` is True when the maximum sits on the end of the stable branch
+    (a quota: MSY is then exactly the tipping point).
+    """
+
+    lever: str
+    msy: float
+    lever_at_msy: float
+    state_at_msy: float
+    current_yield: float | None
+    at_fold: bool
+
+
+@dataclass(frozen=True)
+class StockStatus:
+    """Today's state against B_MSY and a limit level.
+
+    ``limit_source`` says where the limit came from: "[reference] limit" or
+    "half of B_MSY (common practice, no single source)".
+    """
+
+    current: float
+    b_msy: float
+    ratio_to_b_msy: float
+    limit: float
+    limit_source: str
+    ratio_to_limit: float
+    below_limit: bool
+
+
+@dataclass(frozen=True)
+class EconomicYield:
+    """Open access (rent zero) and maximum economic yield beside MSY.
+
+    Rent = price * yield - cost * lever, per time unit, in ``currency``.
+    Open access is None where fishing never pays (rent < 0 for every lever > 0).
+    """
+
+    price: float
+    cost: float
+    currency: str
+    open_access_lever: float | None
+    open_access_state: float | None
+    open_access_yield: float | None
+    mey_lever: float
+    mey_state: float
+    mey_yield: float
+    mey_rent: float
+    msy: float
+    msy_lever: float
