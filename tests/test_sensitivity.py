@@ -169,7 +169,7 @@ def test_quota_lever_limit_sensitivity(quota: Model, quota_report) -> None:
 def test_effort_transcritical_limit() -> None:
     model = _model(EFFORT)
     report = model_sensitivity(model)
-    r, K, q, E = 0.8, 5000.0, 0.002, 150.0
+    r, K, q = 0.8, 5000.0, 0.002
     (state,) = report.states
     assert state.state == pytest.approx(3125.0, rel=1e-12)  # R03
     by_name = {s.parameter: s for s in state.sensitivities}
