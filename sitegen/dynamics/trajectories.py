@@ -72,7 +72,7 @@ def _band_scale(model: Model, attractor: float) -> float:
     return abs(attractor) if attractor != 0 else high - low
 
 
-def _attractor_of(model: Model, start: float, equilibria: Sequence[Equilibrium]) -> float | None:
+def attractor_of(model: Model, start: float, equilibria: Sequence[Equilibrium]) -> float | None:
     """The stable state a start tends to (None when it leaves the region)."""
     for equilibrium in equilibria:
         if equilibrium.value == start and equilibrium.stability == STABLE:
@@ -126,7 +126,7 @@ def integrate(
     level = low if collapse_level is None else float(collapse_level)
     if thresholds is None:
         thresholds = [e.value for e in equilibria if e.stability != STABLE and low < e.value < high]
-    attractor = _attractor_of(model, start, equilibria)
+    attractor = attractor_of(model, start, equilibria)
     args = model.args()
     rate = model.numeric()
     slope = model.numeric(1)
