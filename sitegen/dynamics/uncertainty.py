@@ -228,12 +228,13 @@ def _values(
 ) -> np.ndarray:
     """``function(x, *arguments)`` as a float array of the broadcast shape.
 
-    Lambdified constants come back as plain numbers; adding a zero array of the
-    right shape broadcasts them.
+    Lambdified constants come back as plain numbers; they are broadcast to the shape.
     """
     shape = np.broadcast_shapes(np.shape(x), *[np.shape(a) for a in arguments])
     with np.errstate(all="ignore"):
-        return np.asarray(function(x, *arguments), dtype=float) + np.zeros(shape)
+        values = np.asarray(function(x, *arguments), dtype=float)
+    # Broadcasting (a read-only view) only when needed: a full-grid copy costs a pass.
+    return values if values.shape == shape else np.broadcast_to(values, shape)
 
 
 @dataclass(frozen=True)
