@@ -16,7 +16,14 @@ from typing import Any
 import mpmath
 import pytest
 import sympy
-from analysis_support import analysis_of, load_references, model_of, relative_error
+from analysis_support import (
+    QUICK_BUDGET_S,
+    analysis_of,
+    load_references,
+    model_of,
+    relative_error,
+    scenario_of,
+)
 
 from sitegen.analysis import symbolic
 from sitegen.analysis.bifurcations import classify
@@ -290,17 +297,22 @@ def test_r10_lambert_w_branches_at_30_digits() -> None:
 
 
 def test_r10_sympy_gives_one_branch_but_analysis_finds_both() -> None:
-    """SymPy 1.14 returns only the principal LambertW branch (measured, team notes); the
-    lower root must still be found numerically (Fox 1970 model, derived)."""
+    """SymPy 1.14 returns only the principal LambertW branch in general (measured, team notes);
+    the lower root must still be found, and at today's values gets the W_-1 branch
+    (Fox 1970 model; Corless et al. 1996 for the branches, from memory)."""
     model = model_of(MODELS["gompertz-quota"])
     general = symbolic.solve_for(model.rate, model.state)
     assert len(general) == 1 and general[0].has(sympy.LambertW)
     analysis = analysis_named("gompertz-quota")
     assert len(analysis.equilibria) == 2
     lower, upper = analysis.equilibria
-    assert upper.closed_form is not None and "LambertW" in upper.closed_form
+    assert upper.closed_form == sympy.sstr(general[0])
+    # At H = 150, r = 3/10, K = 2000: x = -H/(r W_-1(-H/(rK))) = -500/W_-1(-1/4).
+    at_values = -500 / sympy.LambertW(-sympy.Rational(1, 4), -1)
+    assert lower.closed_form == sympy.sstr(at_values)
+    with mpmath.workdps(DIGITS):
+        assert close(float(-500 / mpmath.lambertw(-mpmath.mpf(1) / 4, -1).real), lower.value)
     assert close(lower.value, 232.2025602903111) and lower.stability == UNSTABLE
-    assert analysis.method == "numeric"  # not every root has a closed form
     assert analysis.thresholds == (lower.value,)
 
 
@@ -507,10 +519,11 @@ def test_r18_lake_cusp_from_the_map() -> None:
 
 def test_r15_cusp_in_the_analysis_summary() -> None:
     """The cusp of a [[maps]] pair reaches the JSON summary (Strogatz 2015 sec. 3.7)."""
+    from sitegen.analysis.analyse import analyse
     from sitegen.analysis.summary import summary
 
     spec = dict(MODELS["budworm"], maps=[["k", "r"]])
-    analysis = analysis_of(spec, with_maps=True)
+    analysis = analyse(scenario_of(spec), budget_s=QUICK_BUDGET_S)
     s3 = math.sqrt(3)
     assert cusp_near(analysis.cusps, ("k", "r"), (3 * s3, 3 * s3 / 8), s3), analysis.cusps
     cusps = summary(analysis)["cusps"]
@@ -560,7 +573,9 @@ def test_r19_irreversible_lake_has_a_fold_at_negative_loading() -> None:
     folds = in_parameter(analysis_named("lake-irreversible"), "a")
     assert len(folds) == 2
     assert folds[0].parameter_value < 0 < folds[1].parameter_value
-    assert folds[0].counts == (1, 3) and folds[1].counts == (3, 1)
+    # Below a_low nothing rests in the region (the clear state has moved to x < 0); between
+    # a_low and 0 the threshold and the turbid state; between 0 and a_high all three.
+    assert folds[0].counts == (0, 2) and folds[1].counts == (3, 1)
 
 
 LAKE_Q3: dict[str, Any] = {
