@@ -198,3 +198,37 @@ class EconomicYield:
     mey_rent: float
     msy: float
     msy_lever: float
+
+
+@dataclass(frozen=True)
+class PolicyRow:
+    """One policy analysed with the same engine as the base model.
+
+    ``stable_state`` is the stable positive state today's state tends to (None:
+    the policy collapses the state); ``margin`` / ``margin_percent`` are to the
+    tipping point in the lever (None where there is none inside the range);
+    ``recovery_time`` is the time back within 10% after the scenario's shock;
+    ``collapse_time`` is set only where the policy collapses the state.
+    """
+
+    name: str
+    lever_value: float | None
+    stable_state: float | None
+    yield_: float | None
+    limit: LeverLimit | None
+    return_time: float | None
+    recovery_time: float | None
+    collapse_time: float | None
+    notes: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class PolicyTable:
+    """All policy rows and, per column, the name of the best row (None if no row has it).
+
+    Best means: largest stable state, yield and margin; shortest return,
+    recovery and (where every row collapses) the longest collapse time.
+    """
+
+    rows: tuple[PolicyRow, ...]
+    best: dict[str, str | None]
