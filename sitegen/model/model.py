@@ -62,7 +62,11 @@ class Model:
         return self.symbols[name]
 
     def derivative(self, x_order: int = 0, wrt: tuple[str, ...] = ()) -> sympy.Expr:
-        """d^x_order/dx^x_order of the rate, then differentiated by each name in ``wrt``."""
+        """d^x_order/dx^x_order of the rate, then differentiated by each name in ``wrt``.
+
+        At a kink of min/max/abs the derivative does not exist; the one-sided pieces
+        are returned (DiracDelta terms dropped), so callers must test kinks separately.
+        """
         key = f"d{x_order}:{','.join(wrt)}"
         if key not in self._cache:
             expr = self.rate
@@ -70,6 +74,10 @@ class Model:
                 expr = sympy.diff(expr, self.state, x_order)
             for name in wrt:
                 expr = sympy.diff(expr, self.symbol(name))
+            if expr.has(sympy.DiracDelta):
+                # Derivatives of min/max/abs carry DiracDelta terms, zero everywhere but at the
+                # kink itself, where the derivative does not exist; analysis treats kinks apart.
+                expr = expr.replace(sympy.DiracDelta, lambda *_: sympy.S.Zero)
             self._cache[key] = expr
         return self._cache[key]  # type: ignore[return-value]
 
