@@ -7,8 +7,9 @@ from collections.abc import Callable
 
 Command = tuple[str, Callable[[argparse.ArgumentParser], None], Callable[[argparse.Namespace], int]]
 
-from sitegen import analyse_command
+from sitegen import analyse_command, new_command
 
 COMMANDS: dict[str, Command] = {
     "analyse": analyse_command.COMMAND,
+    "new": new_command.COMMAND,
 }
