@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import itertools
 import math
+from functools import cache
 from typing import Any
 
 import mpmath
@@ -28,12 +29,18 @@ from analysis_support import (
 from sitegen.analysis import symbolic
 from sitegen.analysis.bifurcations import classify
 from sitegen.analysis.equilibria import basins_of, find_equilibria
-from sitegen.analysis.records import SEMI_STABLE, STABLE, UNSTABLE, Analysis, Bifurcation
+from sitegen.analysis.records import (
+    SEMI_STABLE,
+    STABLE,
+    UNSTABLE,
+    Analysis,
+    Bifurcation,
+    ParameterMap,
+)
 
 REL_TOL = 1e-10  # equilibria and fold points, relative (absolute in region widths at 0)
 PRECISE_REL_TOL = 1e-25  # the 30-digit value, where every parameter is exact in binary
 ZERO_SLOPE_TOL = 1e-12  # |f'(x*)| below this (1/time unit) counts as zero
-CUSP_REL_TOL = 1e-8  # cusp points of the two-parameter maps
 DIGITS = 30  # working precision of the reference computations
 
 REFERENCES = load_references()
@@ -486,11 +493,51 @@ def test_r17_only_one_finite_fold_in_k_at_r_one_half() -> None:
     assert close(folds[0].parameter_value, k_ref) and close(folds[0].state_value, float(x_ref))
 
 
+@cache
+def map_of(name: str, x: str, y: str) -> ParameterMap:
+    """The engine's two-parameter map of a reference model (once per session)."""
+    from sitegen.analysis.maps import parameter_map
+
+    return parameter_map(model_of(MODELS[name]), x, y)
+
+
+def curve_points(computed: ParameterMap) -> list[tuple[float, float, float]]:
+    """(state, x parameter, y parameter) of every traced fold-curve point."""
+    points = [
+        (float(s), float(u), float(v))
+        for curve in computed.fold_curves
+        for s, u, v in zip(curve.state_values, curve.x_values, curve.y_values, strict=True)
+    ]
+    assert len(points) >= 20, "the map traced (almost) no fold curve"
+    return points
+
+
+def test_r15_budworm_fold_curves_are_the_parametric_curves() -> None:
+    """Strogatz (2015) sec. 3.7; Murray (2002) sec. 1.2 (confirmed): every fold point lies on
+    r(x) = 2x^3/(1 + x^2)^2, k(x) = 2x^3/(x^2 - 1) (absolute error in range widths)."""
+    model = model_of(MODELS["budworm"])
+    (k_low, k_high), (r_low, r_high) = model.ranges["k"], model.ranges["r"]
+    for x, k, r in curve_points(map_of("budworm", "k", "r")):
+        assert x > 1
+        assert abs(r - 2 * x**3 / (1 + x**2) ** 2) <= REL_TOL * (r_high - r_low)
+        assert abs(k - 2 * x**3 / (x**2 - 1)) <= REL_TOL * (k_high - k_low)
+
+
+def test_r18_lake_fold_curve_is_the_parametric_curve() -> None:
+    """Carpenter et al. (1999) model, q = 2 (team notes R18, derived): every fold point lies on
+    b(x) = 2x/(1 + x^2)^2, a(x) = b(x) x - x^2/(1 + x^2)."""
+    model = model_of(MODELS["lake"])
+    (a_low, a_high), (b_low, b_high) = model.ranges["a"], model.ranges["b"]
+    for x, a, b in curve_points(map_of("lake", "a", "b")):
+        assert abs(b - 2 * x / (1 + x**2) ** 2) <= REL_TOL * (b_high - b_low)
+        assert abs(a - (b * x - x**2 / (1 + x**2))) <= REL_TOL * (a_high - a_low)
+
+
 def cusp_near(cusps: Any, names: tuple[str, str], point: tuple[float, float], state: float) -> bool:
     return any(
-        close(c.parameters[names[0]], point[0], tol=CUSP_REL_TOL)
-        and close(c.parameters[names[1]], point[1], tol=CUSP_REL_TOL)
-        and close(c.state_value, state, tol=CUSP_REL_TOL)
+        close(c.parameters[names[0]], point[0], tol=REL_TOL)
+        and close(c.parameters[names[1]], point[1], tol=REL_TOL)
+        and close(c.state_value, state, tol=REL_TOL)
         for c in cusps
     )
 
@@ -498,10 +545,7 @@ def cusp_near(cusps: Any, names: tuple[str, str], point: tuple[float, float], st
 def test_r15_budworm_cusp_from_the_map() -> None:
     """Ludwig et al. (1978); Strogatz (2015) sec. 3.7; Murray (2002) sec. 1.2 (confirmed):
     the cusp of the fold curves is at (k, r) = (3 sqrt 3, 3 sqrt 3/8), x = sqrt 3."""
-    from sitegen.analysis.maps import parameter_map
-
-    model = model_of(MODELS["budworm"])
-    computed = parameter_map(model, "k", "r")
+    computed = map_of("budworm", "k", "r")
     s3 = math.sqrt(3)
     assert cusp_near(computed.cusps, ("k", "r"), (3 * s3, 3 * s3 / 8), s3), computed.cusps
     assert len(computed.fold_curves) >= 1
@@ -510,9 +554,7 @@ def test_r15_budworm_cusp_from_the_map() -> None:
 def test_r18_lake_cusp_from_the_map() -> None:
     """Carpenter et al. (1999) model; Maeler et al. (2003) (confirmed): b = 3 sqrt 3/8 for q = 2;
     a_c = (q - 1)^2/(4q) = 1/8 at x_c = 1/sqrt 3 (derived)."""
-    from sitegen.analysis.maps import parameter_map
-
-    computed = parameter_map(model_of(MODELS["lake"]), "a", "b")
+    computed = map_of("lake", "a", "b")
     s3 = math.sqrt(3)
     assert cusp_near(computed.cusps, ("a", "b"), (1 / 8, 3 * s3 / 8), 1 / s3), computed.cusps
 
@@ -576,6 +618,30 @@ def test_r19_irreversible_lake_has_a_fold_at_negative_loading() -> None:
     # Below a_low nothing rests in the region (the clear state has moved to x < 0); between
     # a_low and 0 the threshold and the turbid state; between 0 and a_high all three.
     assert folds[0].counts == (0, 2) and folds[1].counts == (3, 1)
+
+
+def test_r18_folds_in_b_at_fixed_loading_against_mpmath() -> None:
+    """Carpenter et al. (1999) model, q = 2 (team notes R18, derived): on the fold curve
+    a(x) = x^2(1 - x^2)/(1 + x^2)^2, so the folds in b at a = 0.095 are b = 2x/(1 + x^2)^2 at
+    the roots of a(x) = 0.095 (independent reference computation, mpmath at 30 digits)."""
+    with mpmath.workdps(DIGITS):
+        loading = mpmath.mpf("0.095")
+
+        def on_curve(x: mpmath.mpf) -> mpmath.mpf:
+            return x**2 * (1 - x**2) / (1 + x**2) ** 2 - loading
+
+        grid = [mpmath.mpf(k) / 500 for k in range(1, 500)]
+        roots = [
+            mpmath.findroot(on_curve, (u, v), solver="anderson")
+            for u, v in itertools.pairwise(grid)
+            if on_curve(u) * on_curve(v) < 0
+        ]
+        expected = sorted((float(2 * x / (1 + x**2) ** 2), float(x)) for x in roots)
+    folds = in_parameter(analysis_named("lake"), "b")
+    assert len(folds) == len(expected) == 2
+    for fold, (b_ref, x_ref) in zip(folds, expected, strict=True):
+        assert fold.kind == "saddle-node"
+        assert close(fold.parameter_value, b_ref) and close(fold.state_value, x_ref)
 
 
 LAKE_Q3: dict[str, Any] = {
