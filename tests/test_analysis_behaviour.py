@@ -254,11 +254,14 @@ def test_tiny_budget_falls_back_to_numeric_with_a_note() -> None:
     assert close(fold.parameter_value, 125.0)
 
 
-def test_slow_symbolic_fold_step_times_out_but_numeric_folds_stand() -> None:
-    """Budworm folds in r: SymPy's fold step takes well over 10 s (measured); with a 1 s
-    budget the notes say so and the folds still come from continuation (team notes R17)."""
+def test_budworm_folds_without_closed_form_come_from_continuation() -> None:
+    """Budworm folds in r: p(x) = dr/dx = 0 is a quartic with symbolic coefficients, which
+    SymPy once took well over 10 s on; the engine now declines it at once (no closed form
+    worth showing) and the folds come from continuation (R17, derived)."""
+    started = time.perf_counter()
     analysis = analysis_of(MODELS["budworm"])
-    assert any("'folds:r' timed out" in n for n in analysis.notes), analysis.notes
+    assert time.perf_counter() - started < WALL_LIMIT_S
+    assert not any("'folds:r' timed out" in n for n in analysis.notes), analysis.notes
     folds = [b for b in analysis.bifurcations if b.parameter == "r"]
     assert [round(b.parameter_value, 9) for b in folds] == [0.383970732, 0.559525012]
 

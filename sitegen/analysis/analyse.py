@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import time
 from collections.abc import Sequence
+from dataclasses import replace
 
 import sympy
 
@@ -29,6 +30,8 @@ from sitegen.analysis.records import Analysis, Bifurcation, Branch, ParameterMap
 from sitegen.model.model import Model, build_model
 from sitegen.scenario.records import Scenario
 
+AT_VALUES = "equilibria at today's values"
+TOTAL_BUDGET_STEPS = 3  # the whole symbolic batch may take three steps' budgets
 LONGEST_CLOSED_FORM = 400  # characters; longer ones are not useful to a reader
 
 
@@ -44,28 +47,57 @@ def map_pairs(model: Model, extra: Sequence[tuple[str, str]] = ()) -> list[tuple
 
 
 def _symbolic_steps(model: Model, pairs: list[tuple[str, str]]) -> list[symbolic.Step]:
-    steps = [symbolic.Step("equilibria", symbolic.solve_for, (model.rate, model.state))]
+    """The SymPy batch, most useful first, since a spent budget skips the tail."""
+    steps = [
+        symbolic.Step("equilibria", symbolic.solve_for, (model.rate, model.state)),
+        symbolic.Step(AT_VALUES, symbolic.solve_for, (model.substituted(model.rate), model.state)),
+    ]
     low = sympy.nsimplify(model.region[0], rational=True)
-    for name in model.ranged:
+    lever_first = sorted(model.ranged, key=lambda name: name != model.lever)
+    for name in lever_first:
         parameter = model.symbol(name)
-        steps.append(symbolic.Step(f"folds:{name}", symbolic.fold_candidates,
-                                   (model.rate, model.state, parameter)))
-        steps.append(symbolic.Step(f"branch:{name}", symbolic.parameter_at_states,
-                                   (model.rate, model.state, parameter, [low])))
+        steps.append(
+            symbolic.Step(
+                f"folds:{name}", symbolic.fold_candidates, (model.rate, model.state, parameter)
+            )
+        )
+        steps.append(
+            symbolic.Step(
+                f"branch:{name}",
+                symbolic.parameter_at_states,
+                (model.rate, model.state, parameter, [low]),
+            )
+        )
     for first, second in pairs:
-        steps.append(symbolic.Step(f"map:{first}:{second}", symbolic.two_parameter_folds,
-                                   (model.rate, model.state, model.symbol(first),
-                                    model.symbol(second))))
+        steps.append(
+            symbolic.Step(
+                f"map:{first}:{second}",
+                symbolic.two_parameter_folds,
+                (model.rate, model.state, model.symbol(first), model.symbol(second)),
+            )
+        )
     return steps
 
 
 def _short(forms: Sequence[sympy.Expr]) -> list[sympy.Expr]:
-    return [f for f in forms if len(sympy.sstr(f)) <= LONGEST_CLOSED_FORM]
+    """Closed forms worth showing: not too long, and not an implicit polynomial root."""
+    return [
+        f for f in forms if len(sympy.sstr(f)) <= LONGEST_CLOSED_FORM and not f.has(sympy.CRootOf)
+    ]
 
 
-def analyse_model(model: Model, budget_s: float = symbolic.DEFAULT_BUDGET_S,
-                  extra_maps: Sequence[tuple[str, str]] = (),
-                  with_maps: bool = True) -> Analysis:
+def _short_pairs(
+    pairs: Sequence[tuple[sympy.Expr, sympy.Expr]],
+) -> list[tuple[sympy.Expr, sympy.Expr]]:
+    return [pair for pair in pairs if len(_short(pair)) == 2]
+
+
+def analyse_model(
+    model: Model,
+    budget_s: float = symbolic.DEFAULT_BUDGET_S,
+    extra_maps: Sequence[tuple[str, str]] = (),
+    with_maps: bool = True,
+) -> Analysis:
     """Analyse one model (see the module docstring for the steps)."""
     timings: dict[str, float] = {}
     notes: list[str] = []
@@ -74,38 +106,50 @@ def analyse_model(model: Model, budget_s: float = symbolic.DEFAULT_BUDGET_S,
         notes.append(model.region_note)
     pairs = map_pairs(model, extra_maps) if with_maps else []
 
+    # The SymPy batch runs in its worker while the numeric steps run here.
+    pending = symbolic.PendingSteps(
+        _symbolic_steps(model, pairs), budget_s, TOTAL_BUDGET_STEPS * budget_s
+    )
     started = time.perf_counter()
-    outcomes = symbolic.run_steps(_symbolic_steps(model, pairs), budget_s)
-    for outcome in outcomes.values():
-        if outcome.status != symbolic.OK:
-            notes.append(f"symbolic step '{outcome.name}' {outcome.status} "
-                         f"({outcome.message}); the numeric result stands")
-    timings["symbolic"] = time.perf_counter() - started
+    numeric_equilibria, equilibrium_notes = find_equilibria(model)
+    continued = {name: continue_equilibria(model, name) for name in model.ranged}
+    computed_maps = {pair: parameter_map(model, *pair) for pair in pairs}
+    timings["numeric"] = time.perf_counter() - started
 
     started = time.perf_counter()
-    equilibria, equilibrium_notes = find_equilibria(model)
+    outcomes = pending.collect()
+    for outcome in outcomes.values():
+        if outcome.status != symbolic.OK:
+            notes.append(
+                f"symbolic step '{outcome.name}' {outcome.status} "
+                f"({outcome.message}); the numeric result stands"
+            )
+    timings["symbolic (waiting)"] = time.perf_counter() - started
+
+    started = time.perf_counter()
+    equilibria = numeric_equilibria
     notes.extend(equilibrium_notes)
     general = outcomes["equilibria"]
     forms = _short(general.value) if general.status == symbolic.OK else []
     equilibria, disagreements = attach_closed_forms(model, equilibria, forms, None)
-    if any(e.closed_form is None for e in equilibria):
-        at_values = symbolic.run_steps(
-            [symbolic.Step("equilibria at today's values", symbolic.solve_for,
-                           (model.substituted(model.rate), model.state))], budget_s)
-        outcome = at_values["equilibria at today's values"]
-        if outcome.status == symbolic.OK:
-            equilibria, more = attach_closed_forms(model, equilibria, _short(outcome.value), None)
-            disagreements.extend(more)
-            notes.append("some closed forms are given at today's parameter values, because the "
-                         "general solution was too long or not found")
-        else:
-            notes.append(f"closed forms at today's values {outcome.status}: {outcome.message}")
+    at_values = outcomes[AT_VALUES]
+    if any(e.closed_form is None for e in equilibria) and at_values.status == symbolic.OK:
+        before = sum(e.closed_form is None for e in equilibria)
+        equilibria, more = attach_closed_forms(model, equilibria, _short(at_values.value), None)
+        disagreements.extend(more)
+        if sum(e.closed_form is None for e in equilibria) < before:
+            notes.append(
+                "some closed forms are given at today's parameter values, because the "
+                "general solution was too long or not found"
+            )
     warnings.extend(dict.fromkeys(disagreements))
     missing = [e for e in equilibria if e.closed_form is None]
     method = "symbolic" if equilibria and not missing else "numeric"
     if missing and forms:
-        notes.append(f"SymPy found no closed form for {len(missing)} of {len(equilibria)} "
-                     "equilibria; those are numeric (30 digits)")
+        notes.append(
+            f"SymPy found no closed form for {len(missing)} of {len(equilibria)} "
+            "equilibria; those are numeric (30 digits)"
+        )
     basins, thresholds = basins_of(model, equilibria)
     timings["equilibria"] = time.perf_counter() - started
 
@@ -113,31 +157,34 @@ def analyse_model(model: Model, budget_s: float = symbolic.DEFAULT_BUDGET_S,
     bifurcations: list[Bifurcation] = []
     branches: list[Branch] = []
     for name in model.ranged:
-        found_branches, points = continue_equilibria(model, name)
+        found_branches, points = continued[name]
         branches.extend(found_branches)
         pairs_closed: list[tuple[sympy.Expr, sympy.Expr]] = []
         for key in (f"folds:{name}", f"branch:{name}"):
             if outcomes[key].status == symbolic.OK:
-                pairs_closed.extend(outcomes[key].value)
+                pairs_closed.extend(_short_pairs(outcomes[key].value))
         records, more = build_bifurcations(
-            model, name, [(p.parameter_value, p.state_value) for p in points], pairs_closed)
+            model, name, [(p.parameter_value, p.state_value) for p in points], pairs_closed
+        )
         bifurcations.extend(records)
         warnings.extend(more)
-    timings["continuation"] = time.perf_counter() - started
+    timings["bifurcations"] = time.perf_counter() - started
 
     started = time.perf_counter()
     maps: list[ParameterMap] = []
     for first, second in pairs:
-        computed = parameter_map(model, first, second)
+        computed = computed_maps[(first, second)]
         outcome = outcomes[f"map:{first}:{second}"]
-        if outcome.status == symbolic.OK and outcome.value:
-            from dataclasses import replace
-
+        if (
+            outcome.status == symbolic.OK
+            and outcome.value
+            and len(_short(list(outcome.value[0].values()))) == len(outcome.value[0])
+        ):
             closed = {k: sympy.sstr(v) for k, v in outcome.value[0].items()}
             curves = tuple(replace(curve, closed_form=closed) for curve in computed.fold_curves)
             computed = replace(computed, fold_curves=curves)
         maps.append(computed)
-    timings["maps"] = time.perf_counter() - started
+    timings["maps (closed forms)"] = time.perf_counter() - started
 
     return Analysis(
         slug=model.slug,
@@ -148,8 +195,7 @@ def analyse_model(model: Model, budget_s: float = symbolic.DEFAULT_BUDGET_S,
         equilibria=tuple(equilibria),
         basins=tuple(basins),
         thresholds=tuple(thresholds),
-        bifurcations=tuple(sorted(bifurcations,
-                                  key=lambda b: (b.parameter, b.parameter_value))),
+        bifurcations=tuple(sorted(bifurcations, key=lambda b: (b.parameter, b.parameter_value))),
         branches=tuple(branches),
         maps=tuple(maps),
         method=method,

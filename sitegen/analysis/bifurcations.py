@@ -1,7 +1,7 @@
 """Classifying the special points that continuation finds, and naming their closed forms.
 
 At a point where f = f_x = 0 the standard non-degeneracy conditions decide the
-kind (Strogatz 2015, ch. 3; Kuznetsov 2004, sec. 3.2):
+kind (Strogatz 2015, ch. 3):
 
 - saddle-node: f_p != 0 and f_xx != 0;
 - transcritical: f_p = 0, f_xp != 0, f_xx != 0;
@@ -27,7 +27,11 @@ from sitegen.model.model import Model
 ZERO = 1e-7
 MATCH_RELATIVE = 1e-7
 SADDLE_NODE, TRANSCRITICAL, PITCHFORK, DEGENERATE = (
-    "saddle-node", "transcritical", "pitchfork", "degenerate")
+    "saddle-node",
+    "transcritical",
+    "pitchfork",
+    "degenerate",
+)
 
 
 def rate_scale(model: Model, values: dict[str, float]) -> float:
@@ -35,15 +39,17 @@ def rate_scale(model: Model, values: dict[str, float]) -> float:
     low, high = model.region
     grid = scan_grid(low, high, 257)
     with np.errstate(all="ignore"):
-        sizes = np.abs(np.asarray(model.numeric()(grid, *model.args(values)), dtype=float)
-                       + 0.0 * grid)
+        sizes = np.abs(
+            np.asarray(model.numeric()(grid, *model.args(values)), dtype=float) + 0.0 * grid
+        )
     finite = sizes[np.isfinite(sizes)]
     scale = float(np.max(finite)) if finite.size else 1.0
     return scale if scale > 0 else 1.0
 
 
-def classify(model: Model, parameter: str, parameter_value: float, state_value: float
-             ) -> tuple[str, dict[str, float]]:
+def classify(
+    model: Model, parameter: str, parameter_value: float, state_value: float
+) -> tuple[str, dict[str, float]]:
     """The kind of the point and the derivatives that decided it."""
     values = dict(model.values, **{parameter: parameter_value})
     args = model.args(values)
@@ -91,8 +97,9 @@ def counts_beside(model: Model, parameter: str, parameter_value: float) -> tuple
 
 
 def _evaluate(expr: sympy.Expr, model: Model, parameter: str) -> float | None:
-    substitutions = {model.symbols[n]: sympy.Float(v, 30) for n, v in model.values.items()
-                     if n != parameter}
+    substitutions = {
+        model.symbols[n]: sympy.Float(v, 30) for n, v in model.values.items() if n != parameter
+    }
     try:
         number = complex(sympy.N(expr.subs(substitutions), 30))
     except (TypeError, ValueError, ZeroDivisionError):
@@ -102,10 +109,12 @@ def _evaluate(expr: sympy.Expr, model: Model, parameter: str) -> float | None:
     return number.real
 
 
-def build_bifurcations(model: Model, parameter: str,
-                       points: Sequence[tuple[float, float]],
-                       closed_pairs: Sequence[tuple[sympy.Expr, sympy.Expr]]
-                       ) -> tuple[list[Bifurcation], list[str]]:
+def build_bifurcations(
+    model: Model,
+    parameter: str,
+    points: Sequence[tuple[float, float]],
+    closed_pairs: Sequence[tuple[sympy.Expr, sympy.Expr]],
+) -> tuple[list[Bifurcation], list[str]]:
     """Bifurcation records for numeric points, with closed forms matched from SymPy.
 
     ``points`` are (parameter value, state value); ``closed_pairs`` are
@@ -136,10 +145,22 @@ def build_bifurcations(model: Model, parameter: str,
                 break
         with np.errstate(all="ignore"):
             residual = abs(float(model.numeric()(x_value, *model.args({parameter: p_value}))))
-        records.append(Bifurcation(parameter, kind, p_value, x_value, closed, state_closed, more,
-                                   (below, above), residual, derivatives))
+        records.append(
+            Bifurcation(
+                parameter,
+                kind,
+                p_value,
+                x_value,
+                closed,
+                state_closed,
+                more,
+                (below, above),
+                residual,
+                derivatives,
+            )
+        )
     warnings = []
-    for index, (state_form, parameter_form, x_form, p_form) in enumerate(evaluated):
+    for index, (_state_form, parameter_form, x_form, p_form) in enumerate(evaluated):
         inside = low_p < p_form < high_p and low < x_form < high
         if inside and index not in used:
             warnings.append(

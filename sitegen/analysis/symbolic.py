@@ -20,7 +20,8 @@ import sympy
 
 DEFAULT_BUDGET_S = 5.0
 
-OK, FAILED, TIMED_OUT = "ok", "failed", "timed out"
+WORKER_STOPPED = "the SymPy worker stopped"
+OK, FAILED, TIMED_OUT, SKIPPED = "ok", "failed", "timed out", "skipped"
 
 
 @dataclass(frozen=True)
@@ -34,7 +35,7 @@ class Step:
 
 @dataclass(frozen=True)
 class Outcome:
-    """What became of a step: ``status`` is ok, failed or timed out."""
+    """What became of a step: ``status`` is ok, failed, timed out or skipped."""
 
     name: str
     status: str
@@ -45,6 +46,8 @@ class Outcome:
 
 def _worker(connection: Any, steps: Sequence[Step]) -> None:
     for step in steps:
+        # The parent counts each step's budget from this moment (a shared monotonic clock).
+        connection.send(("started", step.name, time.monotonic()))
         started = time.perf_counter()
         try:
             value = step.function(*step.arguments)
@@ -55,43 +58,114 @@ def _worker(connection: Any, steps: Sequence[Step]) -> None:
     connection.close()
 
 
+class PendingSteps:
+    """A batch of steps running in a worker while the caller does other work.
+
+    The worker starts at construction; :meth:`collect` waits for the answers,
+    giving each step ``budget_s`` seconds of its own running time (a step that
+    finished over budget while the caller was busy counts as timed out), and
+    restarts the worker for the steps after one that timed out. Once ``total_budget_s`` has
+    passed since construction, the steps not yet started are skipped.
+    """
+
+    def __init__(
+        self,
+        steps: Sequence[Step],
+        budget_s: float = DEFAULT_BUDGET_S,
+        total_budget_s: float | None = None,
+    ) -> None:
+        self.budget_s = budget_s
+        self.total_budget_s = total_budget_s
+        self.started = time.monotonic()
+        self.remaining = list(steps)
+        self.outcomes: dict[str, Outcome] = {}
+        self._start()
+
+    def _start(self) -> None:
+        context = multiprocessing.get_context("fork")
+        self.parent, child = context.Pipe(duplex=False)
+        self.process = context.Process(target=_worker, args=(child, self.remaining), daemon=True)
+        self.process.start()
+        child.close()
+
+    def _stop(self) -> None:
+        if self.process.is_alive():
+            self.process.kill()
+        self.process.join(timeout=5)
+        self.parent.close()
+
+    def collect(self) -> dict[str, Outcome]:
+        """Wait for every step (each within its budget) and return the outcomes by name."""
+        while self.remaining:
+            finished = 0
+            try:
+                for step in self.remaining:
+                    outcome = self._wait_for(step)
+                    self.outcomes[step.name] = outcome
+                    finished += 1
+                    if outcome.status in (TIMED_OUT, SKIPPED) or outcome.message == WORKER_STOPPED:
+                        break
+            finally:
+                self._stop()
+            self.remaining = self.remaining[finished:]
+            if self.remaining and self._spent():
+                for step in self.remaining:
+                    self.outcomes[step.name] = Outcome(
+                        step.name,
+                        SKIPPED,
+                        message=f"the scenario's {self.total_budget_s:g} s budget for SymPy "
+                        "was spent",
+                    )
+                self.remaining = []
+            if self.remaining:
+                self._start()
+        return self.outcomes
+
+    def _wait_for(self, step: Step) -> Outcome:
+        """The outcome of the worker's next step, waiting at most its budget from its start."""
+        timed_out = Outcome(
+            step.name,
+            TIMED_OUT,
+            seconds=self.budget_s,
+            message=f"SymPy took longer than the {self.budget_s:g} s budget",
+        )
+        try:
+            if not self.parent.poll(self.budget_s):
+                return timed_out
+            _, _, started_at = self.parent.recv()
+            step_deadline = started_at + self.budget_s
+            deadline = min(step_deadline, self._total_deadline())
+            if not self.parent.poll(max(deadline - time.monotonic(), 0.0)):
+                if deadline < step_deadline:
+                    return self._skipped(step)
+                return timed_out
+            name, status, value, message, seconds = self.parent.recv()
+        except (EOFError, OSError):
+            return Outcome(step.name, FAILED, message=WORKER_STOPPED)
+        if seconds > self.budget_s:
+            # Finished while the caller was busy, but over budget: the budget is the rule.
+            return timed_out
+        return Outcome(name, status, value, message, seconds)
+
+    def _total_deadline(self) -> float:
+        if self.total_budget_s is None:
+            return float("inf")
+        return self.started + self.total_budget_s
+
+    def _spent(self) -> bool:
+        return time.monotonic() >= self._total_deadline()
+
+    def _skipped(self, step: Step) -> Outcome:
+        return Outcome(
+            step.name,
+            SKIPPED,
+            message=f"the scenario's {self.total_budget_s:g} s budget for SymPy was spent",
+        )
+
+
 def run_steps(steps: Sequence[Step], budget_s: float = DEFAULT_BUDGET_S) -> dict[str, Outcome]:
     """Run ``steps`` in order in a killable worker; each gets ``budget_s`` seconds."""
-    context = multiprocessing.get_context("fork")
-    outcomes: dict[str, Outcome] = {}
-    remaining = list(steps)
-    while remaining:
-        parent, child = context.Pipe(duplex=False)
-        process = context.Process(target=_worker, args=(child, remaining), daemon=True)
-        process.start()
-        child.close()
-        finished = 0
-        try:
-            for step in remaining:
-                if not parent.poll(budget_s):
-                    outcomes[step.name] = Outcome(
-                        step.name, TIMED_OUT,
-                        message=f"SymPy took longer than the {budget_s:g} s budget",
-                        seconds=budget_s,
-                    )
-                    finished += 1
-                    break
-                try:
-                    name, status, value, message, seconds = parent.recv()
-                except (EOFError, OSError):
-                    outcomes[step.name] = Outcome(step.name, FAILED,
-                                                  message="the SymPy worker stopped")
-                    finished += 1
-                    break
-                outcomes[name] = Outcome(name, status, value, message, seconds)
-                finished += 1
-        finally:
-            if process.is_alive():
-                process.kill()
-            process.join(timeout=5)
-            parent.close()
-        remaining = remaining[finished:]
-    return outcomes
+    return PendingSteps(steps, budget_s).collect()
 
 
 # -- the steps themselves (module level, so they can be sent to the worker) --------------
@@ -103,8 +177,9 @@ def solve_for(expr: sympy.Expr, symbol: sympy.Symbol) -> list[sympy.Expr]:
     return [s for s in solutions if not s.has(sympy.I) or s.is_real is not False]
 
 
-def fold_candidates(rate: sympy.Expr, state: sympy.Symbol, parameter: sympy.Symbol
-                    ) -> list[tuple[sympy.Expr, sympy.Expr]]:
+def fold_candidates(
+    rate: sympy.Expr, state: sympy.Symbol, parameter: sympy.Symbol
+) -> list[tuple[sympy.Expr, sympy.Expr]]:
     """(state, parameter) pairs in closed form where f = f_x = 0, via p(x).
 
     Solve f = 0 for the parameter as a function of the state, p(x); folds in
@@ -116,14 +191,34 @@ def fold_candidates(rate: sympy.Expr, state: sympy.Symbol, parameter: sympy.Symb
         as_function = sympy.cancel(as_function)
         slope = sympy.together(sympy.diff(as_function, state))
         numerator = sympy.numer(slope)
+        if _too_high_degree(numerator, state):
+            continue
         for state_value in sympy.solve(numerator, state, check=False, dict=False):
             parameter_value = sympy.simplify(as_function.subs(state, state_value))
             pairs.append((sympy.simplify(state_value), parameter_value))
     return pairs
 
 
-def parameter_at_states(rate: sympy.Expr, state: sympy.Symbol, parameter: sympy.Symbol,
-                        states: list[sympy.Expr]) -> list[tuple[sympy.Expr, sympy.Expr]]:
+MAX_SYMBOLIC_DEGREE = 2
+
+
+def _too_high_degree(expr: sympy.Expr, state: sympy.Symbol) -> bool:
+    """True for a polynomial in the state of degree above 2 with symbolic coefficients.
+
+    Its roots have no closed form worth showing (cubic and quartic formulas run to
+    pages, quintics have none); the numeric continuation finds them in milliseconds.
+    """
+    try:
+        polynomial = sympy.Poly(sympy.expand(expr), state)
+    except sympy.PolynomialError:
+        return False
+    symbolic_coefficients = any(not c.is_number for c in polynomial.coeffs())
+    return symbolic_coefficients and polynomial.degree() > MAX_SYMBOLIC_DEGREE
+
+
+def parameter_at_states(
+    rate: sympy.Expr, state: sympy.Symbol, parameter: sympy.Symbol, states: list[sympy.Expr]
+) -> list[tuple[sympy.Expr, sympy.Expr]]:
     """(state, parameter) pairs: p(x) evaluated at given closed-form states.
 
     Used for branch points such as a transcritical point at x = 0, where the
@@ -142,13 +237,17 @@ def parameter_at_states(rate: sympy.Expr, state: sympy.Symbol, parameter: sympy.
     return pairs
 
 
-def two_parameter_folds(rate: sympy.Expr, state: sympy.Symbol, first: sympy.Symbol,
-                        second: sympy.Symbol) -> list[dict[str, sympy.Expr]]:
+def two_parameter_folds(
+    rate: sympy.Expr, state: sympy.Symbol, first: sympy.Symbol, second: sympy.Symbol
+) -> list[dict[str, sympy.Expr]]:
     """The fold curve(s) as (first(x), second(x)) in closed form, parametric in the state."""
     slope = sympy.diff(rate, state)
     solutions = sympy.solve([rate, slope], [first, second], dict=True)
-    return [{first.name: sympy.simplify(s[first]), second.name: sympy.simplify(s[second])}
-            for s in solutions if first in s and second in s]
+    return [
+        {first.name: sympy.simplify(s[first]), second.name: sympy.simplify(s[second])}
+        for s in solutions
+        if first in s and second in s
+    ]
 
 
 def sleep_then(seconds: float, value: Any) -> Any:
