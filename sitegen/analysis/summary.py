@@ -49,31 +49,38 @@ def summary(analysis: Analysis) -> dict[str, Any]:
     low, high = analysis.region
     return {
         "slug": analysis.slug,
-        "state": {"symbol": analysis.state_symbol, "unit": analysis.state_unit,
-                  "min": low, "max": high},
+        "state": {
+            "symbol": analysis.state_symbol,
+            "unit": analysis.state_unit,
+            "min": low,
+            "max": high,
+        },
         "parameters": dict(analysis.parameters),
         "equilibria": [_equilibrium(e) for e in analysis.equilibria],
-        "basins": [{"low": b.low, "high": b.high, "attractor": b.attractor, "exit": b.exit}
-                   for b in analysis.basins],
+        "basins": [
+            {"low": b.low, "high": b.high, "attractor": b.attractor, "exit": b.exit}
+            for b in analysis.basins
+        ],
         "thresholds": list(analysis.thresholds),
         "bifurcations": [_bifurcation(b) for b in analysis.bifurcations],
-        "cusps": [{"parameters": dict(c.parameters), "state_value": c.state_value}
-                  for c in analysis.cusps],
+        "cusps": [
+            {"parameters": dict(c.parameters), "state_value": c.state_value} for c in analysis.cusps
+        ],
         "maps": [
             {
                 "x": m.x,
                 "y": m.y,
                 "fold_curves": [
-                    {"points": int(len(c.x_values)), "closed_form": c.closed_form}
-                    for c in m.fold_curves
+                    {"points": len(c.x_values), "closed_form": c.closed_form} for c in m.fold_curves
                 ],
                 "cusps": len(m.cusps),
                 "notes": list(m.notes),
             }
             for m in analysis.maps
         ],
-        "branches": [{"parameter": b.parameter, "points": int(len(b.parameter_values))}
-                     for b in analysis.branches],
+        "branches": [
+            {"parameter": b.parameter, "points": len(b.parameter_values)} for b in analysis.branches
+        ],
         "method": {"equilibria": analysis.method, "notes": list(analysis.notes)},
         "warnings": list(analysis.warnings),
     }
@@ -96,16 +103,21 @@ def to_text(analysis: Analysis, time_unit: str) -> str:
     """A readable terminal report of the analysis."""
     unit = analysis.state_unit
     low, high = analysis.region
-    lines = [f"{analysis.slug}: d{analysis.state_symbol}/dt over [{_g(low)}, {_g(high)}] {unit}",
-             "", "Equilibria:"]
+    lines = [
+        f"{analysis.slug}: d{analysis.state_symbol}/dt over [{_g(low)}, {_g(high)}] {unit}",
+        "",
+        "Equilibria:",
+    ]
     if not analysis.equilibria:
         lines.append("  none in the region")
     for e in analysis.equilibria:
         back = f", returns in {_g(e.return_time, 4)} {time_unit}" if e.return_time else ""
         closed = f"  = {e.closed_form}" if e.closed_form else ""
         multiple = f", multiplicity {e.multiplicity}" if e.multiplicity > 1 else ""
-        lines.append(f"  {analysis.state_symbol} = {_g(e.value, 10)} {unit}: {e.stability} "
-                     f"(f' = {_g(e.derivative, 6)} /{time_unit}{multiple}{back}){closed}")
+        lines.append(
+            f"  {analysis.state_symbol} = {_g(e.value, 10)} {unit}: {e.stability} "
+            f"(f' = {_g(e.derivative, 6)} /{time_unit}{multiple}{back}){closed}"
+        )
     if analysis.thresholds:
         lines.append("Thresholds: " + ", ".join(f"{_g(t, 8)} {unit}" for t in analysis.thresholds))
     lines.append("")
@@ -114,9 +126,11 @@ def to_text(analysis: Analysis, time_unit: str) -> str:
         lines.append("  none inside the parameter ranges")
     for b in analysis.bifurcations:
         closed = f"  = {b.closed_form}" if b.closed_form else ""
-        lines.append(f"  {b.kind} in {b.parameter} at {b.parameter} = {_g(b.parameter_value, 10)}"
-                     f" (state {_g(b.state_value, 8)} {unit}; equilibria below/above: "
-                     f"{b.counts[0]}/{b.counts[1]}){closed}")
+        lines.append(
+            f"  {b.kind} in {b.parameter} at {b.parameter} = {_g(b.parameter_value, 10)}"
+            f" (state {_g(b.state_value, 8)} {unit}; equilibria below/above: "
+            f"{b.counts[0]}/{b.counts[1]}){closed}"
+        )
     for cusp in analysis.cusps:
         where = ", ".join(f"{k} = {_g(v, 8)}" for k, v in sorted(cusp.parameters.items()))
         lines.append(f"  cusp at {where} (state {_g(cusp.state_value, 8)} {unit})")

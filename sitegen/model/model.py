@@ -81,12 +81,14 @@ class Model:
             self._cache[key] = expr
         return self._cache[key]  # type: ignore[return-value]
 
-    def substituted(self, expr: sympy.Expr, values: Mapping[str, float] | None = None
-                    ) -> sympy.Expr:
+    def substituted(
+        self, expr: sympy.Expr, values: Mapping[str, float] | None = None
+    ) -> sympy.Expr:
         """``expr`` with every parameter replaced by its value (exact rationals)."""
         chosen = dict(self.values if values is None else values)
-        return expr.subs({self.symbols[n]: sympy.nsimplify(v, rational=True)
-                          for n, v in chosen.items()})
+        return expr.subs(
+            {self.symbols[n]: sympy.nsimplify(v, rational=True) for n, v in chosen.items()}
+        )
 
     # -- numeric ----------------------------------------------------------------------------
 
@@ -127,10 +129,25 @@ class Model:
         """The same model at other parameter values (region unchanged)."""
         merged = dict(self.values)
         merged.update(values)
-        return Model(self.slug, self.state, self.rate, self.parameters, self.symbols, merged,
-                     self.ranges, self.units, self.state_unit, self.time_unit, self.region,
-                     self.region_note, self.lever, self.yield_, self.current_state, self.name,
-                     self._cache)
+        return Model(
+            self.slug,
+            self.state,
+            self.rate,
+            self.parameters,
+            self.symbols,
+            merged,
+            self.ranges,
+            self.units,
+            self.state_unit,
+            self.time_unit,
+            self.region,
+            self.region_note,
+            self.lever,
+            self.yield_,
+            self.current_state,
+            self.name,
+            self._cache,
+        )
 
     @property
     def ranged(self) -> tuple[str, ...]:
@@ -185,10 +202,24 @@ def build_model(scenario: Scenario, policy: Policy | None = None) -> Model:
     if scenario.state.max is not None:
         return model
     high, note = derive_upper_end(model, scenario)
-    return Model(model.slug, model.state, model.rate, model.parameters, model.symbols,
-                 model.values, model.ranges, model.units, model.state_unit, model.time_unit,
-                 (scenario.state.min, high), note, model.lever, model.yield_,
-                 model.current_state, model.name)
+    return Model(
+        model.slug,
+        model.state,
+        model.rate,
+        model.parameters,
+        model.symbols,
+        model.values,
+        model.ranges,
+        model.units,
+        model.state_unit,
+        model.time_unit,
+        (scenario.state.min, high),
+        note,
+        model.lever,
+        model.yield_,
+        model.current_state,
+        model.name,
+    )
 
 
 def derive_upper_end(model: Model, scenario: Scenario) -> tuple[float, str]:
@@ -204,8 +235,12 @@ def derive_upper_end(model: Model, scenario: Scenario) -> tuple[float, str]:
     if scenario.state.current is not None:
         candidates.append(2.0 * abs(scenario.state.current))
     same_unit = [abs(p.value) for p in scenario.parameters if p.unit == scenario.state.unit]
-    same_unit += [abs(b) for p in scenario.parameters if p.unit == scenario.state.unit
-                  and p.range for b in p.range]
+    same_unit += [
+        abs(b)
+        for p in scenario.parameters
+        if p.unit == scenario.state.unit and p.range
+        for b in p.range
+    ]
     if same_unit:
         candidates.append(1.5 * max(same_unit))
     high = max(candidates)
@@ -214,12 +249,16 @@ def derive_upper_end(model: Model, scenario: Scenario) -> tuple[float, str]:
         with np.errstate(all="ignore"):
             rates = [float(model.f(high, corner)) for corner in corners]
         if all(np.isfinite(r) and r < 0 for r in rates):
-            return high, (f"upper end {high:.6g} {scenario.state.unit} chosen by sitegen: the "
-                          "rate is negative there across the parameter ranges, so every state "
-                          "above it falls back into the region")
+            return high, (
+                f"upper end {high:.6g} {scenario.state.unit} chosen by sitegen: the "
+                "rate is negative there across the parameter ranges, so every state "
+                "above it falls back into the region"
+            )
         high = low + 2.0 * (high - low)
-    return high, (f"upper end {high:.6g} {scenario.state.unit} chosen by sitegen; the rate does "
-                  "not turn negative above it (the state may grow without bound)")
+    return high, (
+        f"upper end {high:.6g} {scenario.state.unit} chosen by sitegen; the rate does "
+        "not turn negative above it (the state may grow without bound)"
+    )
 
 
 def _range_corners(model: Model) -> list[dict[str, float]]:
