@@ -28,11 +28,12 @@ from sitegen.analysis.equilibria import attach_closed_forms, basins_of, find_equ
 from sitegen.analysis.maps import parameter_map
 from sitegen.analysis.records import Analysis, Bifurcation, Branch, ParameterMap
 from sitegen.model.model import Model, build_model
+from sitegen.scenario.formula import to_formula
 from sitegen.scenario.records import Scenario
 
 AT_VALUES = "equilibria at today's values"
 TOTAL_BUDGET_STEPS = 3  # the whole symbolic batch may take three steps' budgets
-LONGEST_CLOSED_FORM = 400  # characters; longer ones are not useful to a reader
+LONGEST_CLOSED_FORM = 250  # characters; longer ones (cubic formulas) do not help a reader
 
 
 def map_pairs(model: Model, extra: Sequence[tuple[str, str]] = ()) -> list[tuple[str, str]]:
@@ -80,9 +81,18 @@ def _symbolic_steps(model: Model, pairs: list[tuple[str, str]]) -> list[symbolic
 
 
 def _short(forms: Sequence[sympy.Expr]) -> list[sympy.Expr]:
-    """Closed forms worth showing: not too long, and not an implicit polynomial root."""
+    """Closed forms worth showing a reader.
+
+    Left out: over-long ones, implicit polynomial roots (CRootOf), and real roots
+    written through complex numbers (the three-real-root case of the cubic
+    formula), which are exact but tell a reader nothing the number does not.
+    """
     return [
-        f for f in forms if len(sympy.sstr(f)) <= LONGEST_CLOSED_FORM and not f.has(sympy.CRootOf)
+        f
+        for f in forms
+        if len(to_formula(f)) <= LONGEST_CLOSED_FORM
+        and not f.has(sympy.CRootOf)
+        and not f.has(sympy.I)
     ]
 
 
@@ -180,7 +190,7 @@ def analyse_model(
             and outcome.value
             and len(_short(list(outcome.value[0].values()))) == len(outcome.value[0])
         ):
-            closed = {k: sympy.sstr(v) for k, v in outcome.value[0].items()}
+            closed = {k: to_formula(v) for k, v in outcome.value[0].items()}
             curves = tuple(replace(curve, closed_form=closed) for curve in computed.fold_curves)
             computed = replace(computed, fold_curves=curves)
         maps.append(computed)

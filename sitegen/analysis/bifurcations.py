@@ -23,6 +23,7 @@ import sympy
 from sitegen.analysis.records import Bifurcation
 from sitegen.analysis.scan import count_equilibria, scan_grid
 from sitegen.model.model import Model
+from sitegen.scenario.formula import to_formula
 
 ZERO = 1e-7
 MATCH_RELATIVE = 1e-7
@@ -140,7 +141,7 @@ def build_bifurcations(
             close_p = abs(p_form - p_value) <= MATCH_RELATIVE * max(high_p - low_p, abs(p_value))
             close_x = abs(x_form - x_value) <= MATCH_RELATIVE * max(high - low, abs(x_value))
             if close_p and close_x:
-                closed, state_closed = sympy.sstr(parameter_form), sympy.sstr(state_form)
+                closed, state_closed = to_formula(parameter_form), to_formula(state_form)
                 used.add(index)
                 break
         with np.errstate(all="ignore"):
@@ -164,7 +165,7 @@ def build_bifurcations(
         inside = low_p < p_form < high_p and low < x_form < high
         if inside and index not in used:
             warnings.append(
-                f"SymPy gives a fold in {parameter} at {parameter} = {sympy.sstr(parameter_form)}"
+                f"SymPy gives a fold in {parameter} at {parameter} = {to_formula(parameter_form)}"
                 f" = {p_form:.10g} (state {x_form:.10g}) that the numeric continuation did not "
                 "find; the numeric result is shown"
             )

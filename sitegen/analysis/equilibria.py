@@ -21,6 +21,7 @@ import sympy
 from sitegen.analysis.records import SEMI_STABLE, STABLE, UNSTABLE, Basin, Equilibrium
 from sitegen.analysis.scan import scan_grid, scan_roots
 from sitegen.model.model import Model
+from sitegen.scenario.formula import to_formula
 
 DIGITS = 30
 MAX_ORDER = 5
@@ -201,7 +202,7 @@ def attach_closed_forms(
         ]
         if not matches:
             warnings.append(
-                f"SymPy gives an equilibrium {sympy.sstr(form)} = {value:.10g} that the "
+                f"SymPy gives an equilibrium {to_formula(form)} = {value:.10g} that the "
                 "numeric search did not find; the numeric result is shown"
             )
             continue
@@ -209,7 +210,7 @@ def attach_closed_forms(
         if result[index].closed_form is None:
             from dataclasses import replace
 
-            result[index] = replace(result[index], closed_form=sympy.sstr(form))
+            result[index] = replace(result[index], closed_form=to_formula(form))
     return result, warnings
 
 
