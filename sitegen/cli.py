@@ -77,7 +77,15 @@ def main(argv: Sequence[str] | None = None) -> int:
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     commands = _commands()
     for name, (summary, add_arguments, _run) in commands.items():
-        add_arguments(sub.add_parser(name, help=summary, description=summary))
+        command_parser = sub.add_parser(
+            name, help=summary, description=summary, conflict_handler="resolve"
+        )
+        # --debug is also accepted after the command (sitegen check x --debug), where
+        # users add it on the hint's advice; SUPPRESS keeps the main parser's default.
+        command_parser.add_argument(
+            "--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS
+        )
+        add_arguments(command_parser)
     args = parser.parse_args(argv)
     if args.command is None:
         parser.print_help(sys.stderr)

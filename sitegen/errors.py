@@ -51,10 +51,13 @@ class ScenarioError(ValueError):
             head += f"{self.key}: "
         lines = [head + self.message]
         if self.source_line is not None:
-            shown = self.source_line.rstrip("\n")
+            shown, column = _excerpt(self.source_line.rstrip("\n"), self.column)
             lines.append("    " + shown)
-            if self.column is not None and self.column >= 1:
-                lines.append("    " + " " * (self.column - 1) + "^" * max(1, self.width))
+            if column is not None and column >= 1:
+                # Tabs stay tabs so that the caret lines up under the column.
+                pad = "".join(c if c == "\t" else " " for c in shown[: column - 1])
+                width = min(max(1, self.width), max(1, len(shown) - column + 1))
+                lines.append("    " + pad + "^" * width)
         if self.hint:
             lines.append("  hint: " + self.hint)
         return "\n".join(lines)
@@ -65,6 +68,26 @@ class ScenarioError(ValueError):
         if self.key:
             head += f"{self.key}: "
         return head + self.message
+
+
+EXCERPT_WIDTH = 120
+
+
+def _excerpt(line: str, column: int | None) -> tuple[str, int | None]:
+    """At most about EXCERPT_WIDTH characters of ``line`` around ``column``.
+
+    Returns the text to show and the column within it. A cut is marked '...'.
+    """
+    if len(line) <= EXCERPT_WIDTH:
+        return line, column
+    centre = (column or 1) - 1
+    start = max(0, min(centre - EXCERPT_WIDTH // 2, len(line) - EXCERPT_WIDTH))
+    shown = line[start : start + EXCERPT_WIDTH]
+    prefix = "..." if start > 0 else ""
+    suffix = "..." if start + EXCERPT_WIDTH < len(line) else ""
+    if column is not None:
+        column = column - start + len(prefix)
+    return prefix + shown + suffix, column
 
 
 @dataclass

@@ -27,8 +27,13 @@ def dotted(path: Path) -> str:
         if isinstance(part, int):
             text += f"[{part + 1}]"
         else:
-            text += ("." if text else "") + part
+            text += ("." if text else "") + shorten(part)
     return text
+
+
+def shorten(name: str, most: int = 40) -> str:
+    """``name`` cut to ``most`` characters (with '...'), for messages."""
+    return name if len(name) <= most else name[:most] + "..."
 
 
 class Checker:
@@ -46,8 +51,11 @@ class Checker:
         hint: str | None = None,
         column: int | None = None,
         width: int = 1,
+        line: int | None = None,
     ) -> NoReturn:
-        line, found_column = self.index.find(key_path)
+        found_line, found_column = self.index.find(key_path)
+        if line is None:
+            line = found_line
         raise ScenarioError(
             message,
             path=self.path,
@@ -67,18 +75,21 @@ class Checker:
     def table(self, value: Any, key_path: Path, section: str) -> dict[str, Any]:
         """Check ``value`` is a table whose keys all belong to ``section``."""
         if not isinstance(value, dict):
+            header = f"[{dotted(key_path)}]"
+            if key_path and isinstance(key_path[-1], int):  # an entry of [[name]]
+                header = f"[[{dotted(key_path[:-1])}]]"
             self.fail(
                 key_path,
-                f"expected a table ([{dotted(key_path)}]), found {describe(value)}",
-                f"write it as a [{dotted(key_path)}] section with key = value lines",
+                f"expected a table ({header}), found {describe(value)}",
+                f"write it as a {header} section with key = value lines",
             )
         allowed = keys_of(section)
         for name in value:
             if name not in allowed:
                 self.fail(
                     (*key_path, name),
-                    f"unknown key '{name}'",
-                    did_you_mean(name, allowed),
+                    f"unknown key '{shorten(name)}'",
+                    did_you_mean(shorten(name), allowed),
                 )
         for key in allowed.values():
             if key.required and key.name not in value:
@@ -136,7 +147,14 @@ class Checker:
                 f"expected a number, found {describe(value)}",
                 f"write {key_path[-1]} = 0.5 (no quotes)",
             )
-        number = float(value)
+        try:
+            number = float(value)
+        except OverflowError:  # an integer beyond the range of floating point
+            self.fail(
+                key_path,
+                f"the number {str(value)[:20]}... is too large",
+                "numbers must lie between -1.7e308 and 1.7e308",
+            )
         if not math.isfinite(number):
             self.fail(
                 key_path,

@@ -41,6 +41,15 @@ FUNCTIONS: dict[str, tuple[int, int]] = {
     "sqrt": (1, 1),
     "tanh": (1, 1),
 }
+_SYMPY_FUNCTIONS = {
+    "abs": sympy.Abs,
+    "exp": sympy.exp,
+    "log": sympy.log,
+    "max": sympy.Max,
+    "min": sympy.Min,
+    "sqrt": sympy.sqrt,
+    "tanh": sympy.tanh,
+}
 CONSTANTS = {"pi": sympy.pi}
 TIME_NAMES = ("t", "time")
 
@@ -150,6 +159,12 @@ def _precheck(text: str) -> None:
                 column=index + 1,
                 hint="a formula uses numbers, declared names and the allowed functions only",
             )
+        if char == "#":
+            raise FormulaError(
+                "comments ('#') are not allowed in a formula",
+                column=index + 1,
+                hint="everything after '#' would be ignored; write notes in the note key",
+            )
     depth = deepest = 0
     for index, char in enumerate(text):
         if char in "([{":
@@ -206,7 +221,17 @@ class _Builder:
             if isinstance(node, ast.Compare | ast.IfExp | ast.BoolOp):
                 hint = "write threshold rules with min() and max(), e.g. min(1, B/Btrig)*F*B"
             raise self.fail(node, f"a formula may not contain {word}", hint)
-        return method(node, depth + 1)
+        expr = method(node, depth + 1)
+        coefficient = expr.as_coeff_Mul()[0] if expr.is_Mul else expr
+        if coefficient.is_Rational and max(
+            abs(coefficient.p).bit_length(), coefficient.q.bit_length()
+        ) > MAX_CONSTANT_POWER_DIGITS * math.log2(10):
+            raise self.fail(
+                node,
+                f"a number in this formula has more than {MAX_CONSTANT_POWER_DIGITS} digits",
+                "rescale the model so that numbers stay moderate",
+            )
+        return expr
 
     def _build_Constant(self, node: ast.Constant, depth: int) -> sympy.Expr:
         value = node.value
@@ -215,7 +240,14 @@ class _Builder:
                 raise self.fail(node, "text strings are not allowed in a formula")
             raise self.fail(node, f"the value {value!r} is not a number")
         literal = ast.get_source_segment(self.python_text, node) or repr(value)
-        digits = sum(ch.isdigit() for ch in literal.split("e")[0].split("E")[0])
+        if literal[:2].lower() in ("0x", "0o", "0b"):
+            raise self.fail(
+                node,
+                f"the number {literal[:20]} is not written in decimal",
+                "write numbers with the digits 0-9, e.g. 16 rather than 0x10",
+            )
+        mantissa = literal.split("e")[0].split("E")[0]
+        digits = sum(ch.isdigit() for ch in mantissa)
         if digits > MAX_LITERAL_DIGITS:
             raise self.fail(
                 node,
@@ -223,13 +255,17 @@ class _Builder:
                 "write it in scientific notation such as 1.5e40",
             )
         if isinstance(value, float) and not math.isfinite(value):
-            raise self.fail(node, f"the number {literal} is too large", "numbers must be finite")
+            raise self.fail(
+                node, f"the number {literal[:20]} is too large", "numbers must be finite"
+            )
         if isinstance(value, int):
             return sympy.Integer(value)
-        exact = sympy.Rational(literal.replace("_", ""))
-        if exact != 0 and abs(math.log10(abs(float(exact)))) > MAX_CONSTANT_POWER_DIGITS:
-            raise self.fail(node, f"the number {literal} is out of range")
-        return exact
+        underflow = value == 0 and any(ch in "123456789" for ch in mantissa)
+        if underflow or (value != 0 and abs(math.log10(abs(value))) > MAX_CONSTANT_POWER_DIGITS):
+            # Checked on the float, before the exact value is built: 1e-9999999
+            # would otherwise cost seconds of big-integer arithmetic.
+            raise self.fail(node, f"the number {literal[:20]} is out of range")
+        return sympy.Rational(literal.replace("_", ""))
 
     def _build_Name(self, node: ast.Name, depth: int) -> sympy.Expr:
         name = node.id
@@ -260,7 +296,11 @@ class _Builder:
             return -operand
         if isinstance(node.op, ast.UAdd):
             return operand
-        raise self.fail(node, "only + and - may stand before a value", "use not/~ nowhere")
+        raise self.fail(
+            node,
+            "only + and - may stand before a value",
+            "'not' and '~' have no meaning in a rate; write threshold rules with min() and max()",
+        )
 
     def _build_BinOp(self, node: ast.BinOp, depth: int) -> sympy.Expr:
         if type(node.op) not in _BINARY:
@@ -269,7 +309,8 @@ class _Builder:
                 "only + - * / and ^ (or **) are allowed as operators",
                 "for a remainder or integer division, restate the model without it",
             )
-        left = self.build(node.left, depth)
+        # A chain a + b + c nests to the left; it is long, not deep.
+        left = self.build(node.left, depth - isinstance(node.left, ast.BinOp))
         right = self.build(node.right, depth)
         if isinstance(node.op, ast.Add):
             return left + right
@@ -287,9 +328,10 @@ class _Builder:
         if exponent.is_number:
             magnitude = abs(complex(exponent.evalf(15)))
             if magnitude > MAX_EXPONENT:
+                shown = str(exponent) if len(str(exponent)) <= 20 else f"{magnitude:.3g}"
                 raise self.fail(
                     node,
-                    f"the exponent {exponent} is too large (the limit is {MAX_EXPONENT})",
+                    f"the exponent {shown} is too large (the limit is {MAX_EXPONENT})",
                     "rescale the model so that exponents stay moderate",
                 )
             if base.is_number:
@@ -305,7 +347,7 @@ class _Builder:
     def _build_Call(self, node: ast.Call, depth: int) -> sympy.Expr:
         if not isinstance(node.func, ast.Name):
             raise self.fail(
-                node.func, "only the allowed functions may be called", self._function_hint("")
+                node.func, "only the allowed functions may be called", did_you_mean("", FUNCTIONS)
             )
         name = node.func.id
         if name not in FUNCTIONS:
@@ -315,7 +357,7 @@ class _Builder:
                     f"'{name}' is a declared name, not a function",
                     f"write a '*' for multiplication: {name}*(...)",
                 )
-            raise self.fail(node.func, f"unknown function '{name}'", self._function_hint(name))
+            raise self.fail(node.func, f"unknown function '{name}'", did_you_mean(name, FUNCTIONS))
         if node.keywords:
             raise self.fail(node.keywords[0].value, "keyword arguments are not allowed")
         if any(isinstance(arg, ast.Starred) for arg in node.args):
@@ -325,26 +367,17 @@ class _Builder:
             wanted = str(fewest) if fewest == most else f"{fewest} to {most}"
             raise self.fail(node, f"{name}() takes {wanted} argument(s), not {len(node.args)}")
         args = [self.build(arg, depth) for arg in node.args]
-        if name == "exp":
-            return sympy.exp(args[0])
-        if name == "log":
-            return sympy.log(*args)
-        if name == "sqrt":
-            return sympy.sqrt(args[0])
-        if name == "abs":
-            return sympy.Abs(args[0])
-        if name == "tanh":
-            return sympy.tanh(args[0])
-        if name == "min":
-            return sympy.Min(*args)
-        return sympy.Max(*args)
-
-    @staticmethod
-    def _function_hint(name: str) -> str:
-        return did_you_mean(name, FUNCTIONS)
-
-    def _build_Expression(self, node: ast.Expression, depth: int) -> sympy.Expr:
-        return self.build(node.body, depth)
+        base = args[1] if name == "log" and len(args) == 2 else None
+        if base is not None and base.is_number and not (base.is_positive and base != 1):
+            raise self.fail(
+                node.args[1],
+                "the base of log() must be a positive number other than 1",
+                "log(x) is the natural logarithm; log(x, 10) is to base 10",
+            )
+        try:
+            return _SYMPY_FUNCTIONS[name](*args)
+        except ValueError:  # Min and Max refuse what is not real, such as sqrt(-1)
+            raise self.fail(node, f"the arguments of {name}() must be real numbers") from None
 
 
 def parse_formula(text: str, symbols: Mapping[str, sympy.Symbol]) -> ParsedFormula:
@@ -373,11 +406,14 @@ def parse_formula(text: str, symbols: Mapping[str, sympy.Symbol]) -> ParsedFormu
         raise FormulaError("this formula is too complex to read", hint="simplify it") from None
     builder = _Builder(text, column_map, symbols, python_text)
     try:
-        expr = builder.build(tree)
+        expr = builder.build(tree.body)
     except RecursionError:
         raise FormulaError("this formula is too complex to read", hint="simplify it") from None
     if expr.has(sympy.zoo, sympy.nan, sympy.oo, -sympy.oo):
         raise FormulaError("the formula is undefined (it divides by zero)", hint="check it")
+    if any(part.is_number and part.is_real is False for part in sympy.preorder_traversal(expr)):
+        hint = "square roots, logarithms and fractional powers of negative numbers are not real"
+        raise FormulaError("the formula has a value that is not a real number", hint=hint)
     return ParsedFormula(text, python_text, expr, tree, column_map)
 
 
@@ -388,10 +424,16 @@ class FormulaPrinter(StrPrinter):
         return f"abs({self._print(expr.args[0])})"
 
     def _print_Min(self, expr: sympy.Min) -> str:
-        return "min(" + ", ".join(self._print(arg) for arg in expr.args) + ")"
+        return self._print_extremum("min", expr.args)
 
     def _print_Max(self, expr: sympy.Max) -> str:
-        return "max(" + ", ".join(self._print(arg) for arg in expr.args) + ")"
+        return self._print_extremum("max", expr.args)
+
+    def _print_extremum(self, name: str, args: tuple[sympy.Expr, ...]) -> str:
+        shown, most = [self._print(arg) for arg in args], FUNCTIONS[name][1]
+        while len(shown) > most:  # parse_formula reads at most `most` arguments: nest
+            shown = [*shown[:-most], f"{name}(" + ", ".join(shown[-most:]) + ")"]
+        return f"{name}(" + ", ".join(shown) + ")"
 
     def _print_Exp1(self, expr: sympy.Expr) -> str:
         return "exp(1)"

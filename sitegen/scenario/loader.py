@@ -23,22 +23,11 @@ from sitegen.scenario import units
 from sitegen.scenario.checker import Checker, dotted
 from sitegen.scenario.formula import ParsedFormula, parse_formula
 from sitegen.scenario.locate import Path, SourceIndex
-from sitegen.scenario.records import (
-    Economics,
-    HistoryEntry,
-    MapSpec,
-    ModelSpec,
-    Parameter,
-    Policy,
-    ReferencePoints,
-    Scenario,
-    StateSpec,
-    UncertainParameter,
-    UncertaintySpec,
-)
-from sitegen.scenario.schema import DISTRIBUTION_NUMBERS, keys_of
+from sitegen.scenario.records import ModelSpec, Parameter, Scenario, StateSpec
+from sitegen.scenario.sections import OptionalSections
 
 MAX_FILE_BYTES = 1_000_000
+KEY_PART_BUDGET = 10_000_000  # sum over dotted chains of (dots)^2
 SCENARIO_SUFFIX = ".toml"
 
 
@@ -63,6 +52,10 @@ def find_scenarios(paths: list[str]) -> list[FilePath]:
             found.extend(files)
         elif path.is_file():
             found.append(path)
+        elif path.exists():
+            raise ScenarioError(
+                "this is neither a scenario file nor a folder", path=text, hint="name a .toml file"
+            )
         else:
             raise ScenarioError(
                 "no such file or folder", path=text, hint="check the spelling of the path"
@@ -110,11 +103,38 @@ def load_bytes(raw: bytes, path: str = "<scenario>", slug: str | None = None) ->
         ) from None
     if text.startswith("\ufeff"):
         text = text[1:]
-    stem = slug if slug is not None else FilePath(path).stem
+    default = FilePath(path).stem if path != "<scenario>" else "scenario"
+    stem = slug if slug is not None else default
     return load_text(text, path, stem, hashlib.sha256(raw).hexdigest())
 
 
+# A chain of words joined by dots, such as a.b.c or a . b (possessive: linear time).
+_DOTTED_CHAIN = re.compile(r"(?<![\w\-\"'])[\w\-\"']++(?:\s*+\.\s*+[\w\-\"']++)+")
+
+
+def _check_key_parts(text: str, path: str) -> None:
+    """Refuse keys of very many dotted parts before ``tomllib`` sees them.
+
+    ``tomllib`` takes time quadratic in the parts of one key, so a 1 MB file of
+    ``a.a.a...`` would hang it. Each dotted chain costs the square of its dots;
+    real scenarios (and prose, whose chains are short) use little of the budget.
+    """
+    spent = 0
+    for number, line in enumerate(text.splitlines(), start=1):
+        if "." in line:
+            spent += sum(chain.count(".") ** 2 for chain in _DOTTED_CHAIN.findall(line))
+        if spent > KEY_PART_BUDGET:
+            raise ScenarioError(
+                "the keys in this file have too many dotted parts to read",
+                path=path,
+                line=number,
+                source_line=line,
+                hint="scenario keys have at most four parts, such as policies.parameters.F",
+            )
+
+
 def _toml(text: str, path: str) -> dict[str, Any]:
+    _check_key_parts(text, path)
     try:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as error:
@@ -132,6 +152,15 @@ def _toml(text: str, path: str) -> dict[str, Any]:
             column=column,
             source_line=source,
             hint="check quotes, brackets and '=' on this line; text values need quotes",
+        ) from None
+    except ValueError:  # tomllib's int() refuses integers of more than 4300 digits
+        long_number = re.search(r"[0-9_]{4000,}", text)
+        line = text.count("\n", 0, long_number.start()) + 1 if long_number else None
+        raise ScenarioError(
+            "a number in this file has too many digits to read",
+            path=path,
+            line=line,
+            hint="numbers need at most a few dozen digits; write large ones as 1.5e40",
         ) from None
     except (RecursionError, MemoryError):
         raise ScenarioError(
@@ -157,7 +186,7 @@ def load_text(
     return reader.scenario(slug, path, source_hash or hashlib.sha256(text.encode()).hexdigest())
 
 
-class _Reader:
+class _Reader(OptionalSections):
     """Builds the records section by section; every failure goes through ``check``."""
 
     def __init__(self, check: Checker, data: dict[str, Any]) -> None:
@@ -315,17 +344,33 @@ class _Reader:
         try:
             return parse_formula(text, symbols)
         except FormulaError as error:
-            self.fail_in_formula(key_path, error)
+            self.fail_in_formula(key_path, error, text)
 
-    def fail_in_formula(self, key_path: Path, error: FormulaError) -> Any:
-        line, value_column = self.check.index.find(key_path)
-        column = None
-        source = self.check.index.line_text(line)
-        if error.column is not None and value_column is not None and source is not None:
-            opening = source[value_column - 1 : value_column + 2]
-            skip = 3 if opening in ('"""', "'''") else 1
-            column = value_column + skip + error.column - 1
-        self.check.fail(key_path, error.message, error.hint, column=column, width=error.width)
+    def fail_in_formula(self, key_path: Path, error: FormulaError, text: str) -> Any:
+        """Fail at the place in the file where the formula's error stands.
+
+        The formula's own line (it may span lines in a \"\"\" string) is searched
+        for in the source; when escapes make it differ, the caret marks the value.
+        """
+        index = self.check.index
+        line, value_column = index.find(key_path)
+        if error.column is None or line is None or value_column is None:
+            self.check.fail(key_path, error.message, error.hint)
+        offset = min(error.column - 1, len(text))
+        row = text.count("\n", 0, offset)
+        start = text.rfind("\n", 0, offset) + 1
+        wanted = text.split("\n")[row]
+        for number in (line + row, line + row + 1):
+            source = index.line_text(number)
+            if source is None or not wanted.strip():
+                continue
+            found = source.find(wanted, value_column - 1 if number == line else 0)
+            if found >= 0:
+                column = found + offset - start + 1
+                self.check.fail(
+                    key_path, error.message, error.hint, column, error.width, line=number
+                )
+        self.check.fail(key_path, error.message, error.hint, value_column)
 
     def model(self, parameters: tuple[Parameter, ...]) -> ModelSpec:
         check = self.check
@@ -361,234 +406,7 @@ class _Reader:
         try:
             units.check_rate_units(formula, known, state_unit, time_unit)
         except FormulaError as error:
-            self.fail_in_formula(key_path, error)
-
-    def policies(self, parameters: tuple[Parameter, ...], model: ModelSpec) -> tuple[Policy, ...]:
-        raw = self.data.get("policies", [])
-        if not isinstance(raw, list):
-            self.check.fail(
-                ("policies",),
-                "expected [[policies]] entries",
-                'write [[policies]] then name = "..." for each policy',
-            )
-        base_names = [p.name for p in parameters]
-        result = []
-        seen: set[str] = set()
-        for index, table in enumerate(raw):
-            where: Path = ("policies", index)
-            self.check.table(table, where, "policy")
-            name = self.check.text(table, (*where, "name"))
-            if name in seen:
-                self.check.fail(
-                    (*where, "name"),
-                    f"two policies are called '{name}'",
-                    "give each policy its own name",
-                )
-            seen.add(name)
-            values = self.check.numbers_table(table, (*where, "values"))
-            for key in values:
-                if key not in base_names:
-                    self.check.fail(
-                        (*where, "values", key),
-                        f"'{key}' is not a parameter",
-                        did_you_mean(key, base_names),
-                    )
-            own = self.policy_parameters(table, where)
-            # A policy's own parameters are visible to its formulas only.
-            symbols = dict(self.symbols)
-            own_units = {parameter.name: self.units.pop(parameter.name) for parameter in own}
-            for parameter in own:
-                del self.symbols[parameter.name]
-            rate = yield_ = None
-            if "rate" in table:
-                rate = self._policy_formula(table, (*where, "rate"), symbols)
-                self.check_units(rate, (*where, "rate"), model.time_unit, own_units)
-            if "yield" in table:
-                yield_ = self._policy_formula(table, (*where, "yield"), symbols)
-                self.check_units(yield_, (*where, "yield"), model.time_unit, own_units)
-            if own and rate is None and yield_ is None:
-                self.check.fail(
-                    (*where, "parameters"),
-                    "extra parameters are declared but no rate or yield uses them",
-                    'add a rate = "..." for this policy, or remove them',
-                )
-            result.append(Policy(name, values, rate, yield_, own, symbols))
-        return tuple(result)
-
-    def _policy_formula(
-        self, table: dict[str, Any], key_path: Path, symbols: dict[str, sympy.Symbol]
-    ) -> ParsedFormula:
-        text = self.check.text(table, key_path)
-        try:
-            return parse_formula(text, symbols)
-        except FormulaError as error:
-            self.fail_in_formula(key_path, error)
-
-    def policy_parameters(self, table: dict[str, Any], where: Path) -> tuple[Parameter, ...]:
-        if "parameters" not in table:
-            return ()
-        return self.parameters(table["parameters"], (*where, "parameters"), base=False)
-
-    def uncertainty(self, parameters: tuple[Parameter, ...]) -> UncertaintySpec | None:
-        raw = self.data.get("uncertainty")
-        if raw is None:
-            return None
-        check = self.check
-        if not isinstance(raw, dict):
-            check.fail(("uncertainty",), "expected an [uncertainty] table")
-        names = {p.name: p for p in parameters}
-        settings = keys_of("uncertainty")
-        drawn = []
-        for key, value in raw.items():
-            if key in settings:
-                continue
-            where: Path = ("uncertainty", key)
-            if not isinstance(value, dict):
-                check.fail(
-                    where, f"unknown key '{key}'", did_you_mean(key, list(settings) + list(names))
-                )
-            if key not in names:
-                check.fail(where, f"'{key}' is not a parameter", did_you_mean(key, names))
-            drawn.append(self.distribution(value, where, names[key]))
-        samples = check.integer(raw, ("uncertainty", "samples"), 10_000)
-        if not 100 <= samples <= 1_000_000:
-            check.fail(
-                ("uncertainty", "samples"),
-                f"samples must be between 100 and 1,000,000, not {samples:,}",
-                "10000 is the usual choice",
-            )
-        seed = check.integer(raw, ("uncertainty", "seed"), 0)
-        tolerance = check.fraction(raw, ("uncertainty", "tolerance"), 0.05)
-        if not drawn:
-            check.fail(
-                ("uncertainty",),
-                "no parameter has a distribution",
-                'add e.g. [uncertainty.r] with distribution = "normal" and sd = 0.05',
-            )
-        return UncertaintySpec(samples, seed, tolerance, tuple(drawn))
-
-    def distribution(
-        self, table: dict[str, Any], where: Path, parameter: Parameter
-    ) -> UncertainParameter:
-        check = self.check
-        check.table(table, where, "distribution")
-        kind = check.text(table, (*where, "distribution"))
-        if kind not in DISTRIBUTION_NUMBERS:
-            check.fail(
-                (*where, "distribution"),
-                f"unknown distribution '{kind}'",
-                did_you_mean(kind, DISTRIBUTION_NUMBERS),
-            )
-        required, defaulted = DISTRIBUTION_NUMBERS[kind]
-        allowed = set(required) | set(defaulted) | {"distribution"}
-        for key in table:
-            if key not in allowed:
-                check.fail(
-                    (*where, key),
-                    f"'{key}' does not belong to a {kind} distribution",
-                    f"a {kind} distribution takes: "
-                    + ", ".join(sorted(allowed - {"distribution"})),
-                )
-        numbers: dict[str, float] = {}
-        for key in required:
-            if key not in table:
-                check.fail(where, f"a {kind} distribution needs '{key}'", f"add {key} = ...")
-            numbers[key] = check.number(table, (*where, key))
-        for key in defaulted:
-            numbers[key] = check.number(table, (*where, key), parameter.value)
-        spread = numbers.get("sd", numbers.get("sdlog"))
-        if spread is not None and spread <= 0:
-            check.fail(where, "the spread (sd or sdlog) must be above zero")
-        if "low" in numbers and numbers["low"] >= numbers["high"]:
-            check.fail((*where, "low"), "low must be below high")
-        if "mode" in numbers and not numbers["low"] <= numbers["mode"] <= numbers["high"]:
-            check.fail((*where, "mode"), "mode must lie between low and high")
-        if kind == "lognormal" and numbers["median"] <= 0:
-            check.fail((*where, "median"), "a lognormal median must be above zero")
-        return UncertainParameter(parameter.name, kind, numbers)
-
-    def history(
-        self, parameters: tuple[Parameter, ...], state: StateSpec
-    ) -> tuple[HistoryEntry, ...]:
-        raw = self.data.get("history", [])
-        if not isinstance(raw, list):
-            self.check.fail(("history",), "expected [[history]] entries")
-        allowed = [p.name for p in parameters] + [state.symbol]
-        years: set[int] = set()
-        result = []
-        for index, table in enumerate(raw):
-            where: Path = ("history", index)
-            self.check.table(table, where, "history")
-            year = self.check.integer(table, (*where, "year"))
-            if year in years:
-                self.check.fail(
-                    (*where, "year"),
-                    f"the year {year} appears twice",
-                    "give each year one [[history]] entry",
-                )
-            years.add(year)
-            values = self.check.numbers_table(table, (*where, "values"))
-            for key in values:
-                if key not in allowed:
-                    self.check.fail(
-                        (*where, "values", key),
-                        f"'{key}' is not a parameter or the state",
-                        did_you_mean(key, allowed),
-                    )
-            result.append(HistoryEntry(year, values))
-        return tuple(sorted(result, key=lambda entry: entry.year))
-
-    def reference(self, state: StateSpec) -> ReferencePoints:
-        raw = self.data.get("reference")
-        if raw is None:
-            return ReferencePoints()
-        table = self.check.table(raw, ("reference",), "reference")
-        numbers = {
-            key: self.check.optional_number(table, ("reference", key))
-            for key in ("limit", "target", "trigger")
-        }
-        return ReferencePoints(**numbers)
-
-    def economics(self, model: ModelSpec) -> Economics | None:
-        raw = self.data.get("economics")
-        if raw is None:
-            return None
-        table = self.check.table(raw, ("economics",), "economics")
-        if model.yield_ is None or model.lever is None:
-            self.check.fail(
-                ("economics",),
-                "economics needs a lever and a yield in [model]",
-                'add lever = "..." and yield = "..." under [model]',
-            )
-        price = self.check.number(table, ("economics", "price"))
-        cost = self.check.number(table, ("economics", "cost"))
-        if price <= 0 or cost < 0:
-            self.check.fail(("economics",), "price must be above zero and cost zero or more")
-        return Economics(price, cost, self.check.text(table, ("economics", "currency"), ""))
-
-    def maps(self, parameters: tuple[Parameter, ...]) -> tuple[MapSpec, ...]:
-        raw = self.data.get("maps", [])
-        if not isinstance(raw, list):
-            self.check.fail(("maps",), "expected [[maps]] entries")
-        ranged = [p.name for p in parameters if p.range is not None]
-        result = []
-        for index, table in enumerate(raw):
-            where: Path = ("maps", index)
-            self.check.table(table, where, "maps")
-            pair = []
-            for axis in ("x", "y"):
-                name = self.check.text(table, (*where, axis))
-                if name not in ranged:
-                    self.check.fail(
-                        (*where, axis),
-                        f"'{name}' is not a parameter with a range",
-                        did_you_mean(name, ranged),
-                    )
-                pair.append(name)
-            if pair[0] == pair[1]:
-                self.check.fail((*where, "y"), "x and y must be different parameters")
-            result.append(MapSpec(pair[0], pair[1]))
-        return tuple(result)
+            self.fail_in_formula(key_path, error, formula.text)
 
 
 def _with_warnings(scenario: Scenario, warnings: tuple[str, ...]) -> Scenario:

@@ -10,7 +10,8 @@ from __future__ import annotations
 
 import re
 
-_HEADER = re.compile(r"^\s*(\[\[?)\s*([^\[\]]+?)\s*\]\]?\s*(#.*)?$")
+# Possessive and greedy so that matching takes linear time on long lines.
+_HEADER = re.compile(r"^\s*(\[\[?)\s*+([^\[\]]*[^\[\]\s])\s*\]\]?\s*(#.*)?$")
 _KEY = re.compile(
     r"^\s*((?:[A-Za-z0-9_\-]+|\"[^\"]*\"|'[^']*')(?:\s*\.\s*(?:[A-Za-z0-9_\-]+|\"[^\"]*\"|'[^']*'))*)\s*=\s*"
 )
@@ -46,7 +47,8 @@ class SourceIndex:
                     current = (*self._resolve(names[:-1], arrays), names[-1], arrays[names])
                 else:
                     current = self._resolve(names, arrays)
-                self.positions.setdefault(current, (number, line.index("[") + 1))
+                for size in range(1, len(current) + 1):  # [a.b] also places a
+                    self.positions.setdefault(current[:size], (number, line.index("[") + 1))
                 continue
             key = _KEY.match(line)
             if key and not line.lstrip().startswith("#"):
@@ -71,7 +73,8 @@ class SourceIndex:
         rest = line[start:]
         if not rest.lstrip().startswith("{"):
             return
-        for match in re.finditer(r"([A-Za-z_][A-Za-z0-9_\-]*)\s*=", rest):
+        # The look-behind starts a match only at the start of a word (linear time).
+        for match in re.finditer(r"(?<![A-Za-z0-9_\-])([A-Za-z_][A-Za-z0-9_\-]*)\s*=", rest):
             self.positions.setdefault((*path, match.group(1)), (number, start + match.start() + 1))
 
     def find(self, path: Path) -> tuple[int | None, int | None]:

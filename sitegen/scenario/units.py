@@ -20,7 +20,7 @@ from sitegen.errors import FormulaError
 from sitegen.scenario.formula import ParsedFormula
 
 _TOKEN = re.compile(
-    r"\s*(?:(?P<name>[A-Za-z°µ%$€£][A-Za-z0-9°µ%$€£_\-]*)|(?P<number>\d+)|(?P<op>\*\*|[*/^()·.\-]))"
+    r"\s*(?:(?P<name>[A-Za-z°µ%$€£][A-Za-z0-9°µ%$€£_\-]*)|(?P<number>[0-9]+)|(?P<op>\*\*|[*/^()·.\-]))"
 )
 
 
@@ -141,11 +141,13 @@ class _UnitParser:
             unit = Unit.of({token[1]: Fraction(1)})
         elif token[0] == "number" and token[1] == "1":
             unit = DIMENSIONLESS
-        else:
+        elif token[0] == "number":
             raise UnitError(
                 f"unexpected {token[1]!r}",
                 "numbers in units are not allowed except 1 and exponents (m^3)",
             )
+        else:
+            raise UnitError(f"unexpected {token[1]!r}")
         nxt = self.peek()
         if nxt is not None and nxt[1] in ("^", "**"):
             self.take()
@@ -159,7 +161,10 @@ class _UnitParser:
             inner = self.exponent()
             if self.peek() and self.peek()[1] == "/":  # type: ignore[index]
                 self.take()
-                inner = inner / self.exponent()
+                divisor = self.exponent()
+                if divisor == 0:
+                    raise UnitError("an exponent divides by zero", "write e.g. m^(1/2)")
+                inner = inner / divisor
             if not self.peek() or self.take()[1] != ")":
                 raise UnitError("a parenthesis is not closed")
             return inner
@@ -223,25 +228,32 @@ class _UnitWalker:
         width = max(1, len(self.formula.segment(node)))
         return FormulaError(message, column=start, width=width, hint=hint)
 
+    def text(self, node: ast.AST) -> str:
+        """The user's text for ``node``, cut short for messages."""
+        text = self.formula.segment(node)
+        return text if len(text) <= 60 else text[:57] + "..."
+
     def same_terms(self, node: ast.AST, expected: Unit | None, what: str) -> Unit:
         terms = _additive_terms(node)
         found = [(term, self.unit(term)) for term in terms]
         if expected is None:
-            reference_term, reference = found[0]
+            # A literal 0 fits any unit, so it cannot set the unit of the sum.
+            nonzero = [pair for pair in found if not _is_zero(pair[0])] or found
+            reference_term, reference = nonzero[0]
         else:
             matching = [term for term, unit in found if unit == expected]
             reference_term, reference = (matching[0] if matching else None), expected
         for term, unit in found:
             if _is_zero(term) or unit == reference:
                 continue
-            text = self.formula.segment(term)
+            text = self.text(term)
             if reference_term is None:
                 raise self.fail(
                     term,
                     f"term `{text}` is {unit} but {what} must be {reference}",
                     "every term of the rate must have the unit of the state per unit of time",
                 )
-            other = self.formula.segment(reference_term)
+            other = self.text(reference_term)
             raise self.fail(
                 term,
                 f"term `{text}` is {unit} but `{other}` is {reference}",
@@ -275,7 +287,7 @@ class _UnitWalker:
         if not exponent_unit.dimensionless:
             raise self.fail(
                 exponent,
-                f"the exponent `{self.formula.segment(exponent)}` is "
+                f"the exponent `{self.text(exponent)}` is "
                 f"{exponent_unit} but an exponent must be dimensionless",
             )
         base_unit = self.unit(base)
@@ -285,7 +297,7 @@ class _UnitWalker:
         if not base_unit.dimensionless:
             raise self.fail(
                 base,
-                f"`{self.formula.segment(base)}` is {base_unit} and is raised to a non-numeric "
+                f"`{self.text(base)}` is {base_unit} and is raised to a non-numeric "
                 "power; it must be dimensionless",
                 "divide it by a reference value first, e.g. (v/v1)^p with v1 = 1 m/s",
             )
@@ -298,7 +310,7 @@ class _UnitWalker:
                 if not unit.dimensionless:
                     raise self.fail(
                         argument,
-                        f"the argument of {name}() `{self.formula.segment(argument)}` is {unit}; "
+                        f"the argument of {name}() `{self.text(argument)}` is {unit}; "
                         "it must be dimensionless",
                         "divide by a quantity of the same unit, e.g. log(K/B)",
                     )
@@ -308,13 +320,14 @@ class _UnitWalker:
         if name == "abs":
             return self.unit(node.args[0])
         units = [(argument, self.unit(argument)) for argument in node.args]
-        first_node, first = units[0]
-        for argument, unit in units[1:]:
+        # A literal 0 fits any unit (max(0, x) clips at zero), so it sets none.
+        first_node, first = next((pair for pair in units if not _is_zero(pair[0])), units[0])
+        for argument, unit in units:
             if unit != first and not _is_zero(argument):
                 raise self.fail(
                     argument,
-                    f"{name}() compares `{self.formula.segment(argument)}` ({unit}) with "
-                    f"`{self.formula.segment(first_node)}` ({first})",
+                    f"{name}() compares `{self.text(argument)}` ({unit}) with "
+                    f"`{self.text(first_node)}` ({first})",
                     f"the arguments of {name}() must have the same unit",
                 )
         return first
