@@ -1,4 +1,4 @@
-"""``sitegen analyse FILE [--json]``: the analysis as a readable report or JSON."""
+"""``sitegen analyse FILE [--json]``: the assessment (analysis and dynamics) as a report or JSON."""
 
 from __future__ import annotations
 
@@ -11,25 +11,30 @@ from sitegen.analysis.symbolic import DEFAULT_BUDGET_S
 def _arguments(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("file", metavar="FILE", help="one scenario file")
     parser.add_argument("--json", action="store_true", help="print the JSON summary")
-    parser.add_argument("--budget", type=float, default=DEFAULT_BUDGET_S, metavar="SECONDS",
-                        help=f"time budget of each SymPy step (default {DEFAULT_BUDGET_S:g})")
+    parser.add_argument(
+        "--budget",
+        type=float,
+        default=DEFAULT_BUDGET_S,
+        metavar="SECONDS",
+        help=f"time budget of each SymPy step (default {DEFAULT_BUDGET_S:g})",
+    )
 
 
 def _run(args: argparse.Namespace) -> int:
-    from sitegen.analysis.analyse import analyse
-    from sitegen.analysis.summary import to_json, to_text
+    from sitegen.dynamics.assess import assess
+    from sitegen.dynamics.report import assessment_json, assessment_text
     from sitegen.scenario.loader import load_scenario
 
     if args.budget <= 0:
         print("sitegen: error: --budget must be above zero", file=sys.stderr)
         return 2
     scenario = load_scenario(args.file)
-    analysis = analyse(scenario, args.budget)
+    assessment = assess(scenario, args.budget)
     if args.json:
-        print(to_json(analysis))
+        print(assessment_json(assessment))
     else:
-        print(to_text(analysis, scenario.model.time_unit))
+        print(assessment_text(assessment, scenario))
     return 0
 
 
-COMMAND = ("analyse a scenario: equilibria, stability, bifurcations", _arguments, _run)
+COMMAND = ("analyse a scenario: equilibria, bifurcations, limits, policies, risk", _arguments, _run)

@@ -121,6 +121,14 @@ def _end(
     if matches:
         best = min(matches, key=lambda b: abs(b.parameter_value - lever_value))
         return best.kind, float(best.parameter_value), float(best.state_value)
+    # Without a bifurcation the run ends only by reaching the lower end inside the range;
+    # a run leaving the region at its top, or meeting the lower end at the range's end
+    # (a pollutant gone at zero loading), is cut off, not tipped.
+    low = model.region[0]
+    reaches_low = min(state, float(neighbour[1])) <= low + MATCH * x_width
+    at_range_end = min(abs(neighbour[0] - p_low), abs(neighbour[0] - p_high)) <= EDGE * p_width
+    if not reaches_low or at_range_end:
+        return None, float(lever_value), float(state)
     return END_OF_REGION, float(lever_value), float(state)
 
 

@@ -22,7 +22,7 @@ from sitegen.analysis.analyse import analyse_model
 from sitegen.analysis.bifurcations import SADDLE_NODE, counts_beside, rate_scale
 from sitegen.analysis.continuation import continue_equilibria
 from sitegen.analysis.equilibria import find_equilibria
-from sitegen.analysis.records import Bifurcation, Branch, Equilibrium
+from sitegen.analysis.records import Analysis, Bifurcation, Branch, Equilibrium
 from sitegen.dynamics.collapse import collapse_past_fold
 from sitegen.dynamics.limits import lever_limit, stable_run, sustainable_yield
 from sitegen.dynamics.records import PolicyRow, PolicyTable
@@ -120,18 +120,31 @@ def _kinked_records(
     return equilibria, branches, records
 
 
-def policy_row(scenario: Scenario, policy: Policy | None, budget_s: float = BUDGET_S) -> PolicyRow:
-    """One row: the policy's model analysed and summarised."""
+def policy_row(
+    scenario: Scenario,
+    policy: Policy | None,
+    budget_s: float = BUDGET_S,
+    analysis: Analysis | None = None,
+) -> PolicyRow:
+    """One row: the policy's model analysed and summarised.
+
+    ``analysis`` reuses an analysis of this very model already made (the base
+    model's from stage 3) instead of running it again.
+    """
     model = build_model(scenario, policy)
     if has_kinks(model):
         found, branches, raw = _kinked_records(model)
     else:
-        analysis = analyse_model(model, budget_s, with_maps=False)
+        if analysis is None:
+            analysis = analyse_model(model, budget_s, with_maps=False)
         found, branches, raw = list(analysis.equilibria), analysis.branches, analysis.bifurcations
     equilibria, notes = true_roots(model, found)
     bifurcations, more = check_folds(model, raw)
     notes.extend(more)
-    lever_value = float(model.values[model.lever]) if model.lever else None
+    # A policy with its own rule may not use the base lever at all (a fixed effort
+    # instead of a quota); its row then has no lever setting rather than a dead one.
+    uses_lever = model.lever is not None and model.symbols[model.lever] in model.rate.free_symbols
+    lever_value = float(model.values[model.lever]) if uses_lever and model.lever else None
     run = stable_run(model, branches, bifurcations, equilibria)
     limit = lever_limit(model, run)
     stable = current_stable_state(model, equilibria)
@@ -172,9 +185,14 @@ def _best(rows: Sequence[PolicyRow], column: str, largest: bool) -> str | None:
     return chosen[1]
 
 
-def compare_policies(scenario: Scenario, budget_s: float = BUDGET_S) -> PolicyTable:
-    """Rows for every policy of the scenario (the base model first) and the best markers."""
-    rows = [policy_row(scenario, None, budget_s)]
+def compare_policies(
+    scenario: Scenario, budget_s: float = BUDGET_S, base: Analysis | None = None
+) -> PolicyTable:
+    """Rows for every policy of the scenario (the base model first) and the best markers.
+
+    ``base`` is the stage-3 analysis of the base model, reused for its row.
+    """
+    rows = [policy_row(scenario, None, budget_s, base)]
     rows.extend(policy_row(scenario, policy, budget_s) for policy in scenario.policies)
     best = {
         "stable_state": _best(rows, "stable_state", True),
@@ -182,6 +200,12 @@ def compare_policies(scenario: Scenario, budget_s: float = BUDGET_S) -> PolicyTa
         "margin": _best(rows, "margin", True),
         "return_time": _best(rows, "return_time", False),
         "recovery_time": _best(rows, "recovery_time", False),
-        "collapse_time": _best(rows, "collapse_time", True),
+        # The longest collapse is "best" only when every row collapses: a row that
+        # keeps its stable state is always better than one that collapses slowly.
+        "collapse_time": (
+            _best(rows, "collapse_time", True)
+            if all(row.collapse_time is not None for row in rows)
+            else None
+        ),
     }
     return PolicyTable(tuple(rows), best)

@@ -81,7 +81,12 @@ def attractor_of(model: Model, start: float, equilibria: Sequence[Equilibrium]) 
     for basin in basins:
         if basin.low <= start <= basin.high and basin.low != basin.high:
             if start in (basin.low, basin.high) and start not in {e.value for e in equilibria}:
-                continue
+                # A start on a basin's edge belongs to it when the flow points inside
+                # (a body at rest that starts to fall, a stock at the lower end that grows).
+                rate = float(model.f(start))
+                inward = (start == basin.low and rate > 0) or (start == basin.high and rate < 0)
+                if not inward:
+                    continue
             return basin.attractor
     return None
 
