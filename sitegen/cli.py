@@ -7,6 +7,7 @@ No traceback reaches the user unless ``--debug`` is given.
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 import traceback
 from collections.abc import Callable, Sequence
@@ -99,6 +100,11 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("sitegen: interrupted", file=sys.stderr)
         return EXIT_INVALID
+    except BrokenPipeError:
+        # The reader went away (e.g. `sitegen analyse ... | head`); stop quietly.
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return EXIT_OK
     except Exception as error:  # the promise: no traceback without --debug
         if args.debug:
             traceback.print_exc()
