@@ -41,25 +41,66 @@ wins (the policy fixes it).
 from __future__ import annotations
 
 import time
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 
 import numpy as np
 import sympy
 
+from sitegen.dynamics.uncertainty_roots import (
+    BLOCK_SAMPLES,
+    COARSE_GRID_POINTS,
+    FOLD_ACCEPT_RELATIVE,
+    FOLD_NEWTON_STEPS,
+    GRID_POINTS,
+    LEVER_BISECTIONS,
+    LEVER_EXPANSIONS,
+    NEAR_LOW_POINTS,
+    STATE_BISECTIONS,
+    lever_limits,
+    lever_search_interval,
+    persists,
+    rate_values,
+    sample_count,
+    state_grid,
+    upper_stable_states,
+)
 from sitegen.model.model import Model, build_model
 from sitegen.scenario.records import Scenario, UncertainParameter, UncertaintySpec
 
+# The vectorised root bracketing and lever-limit search live in
+# sitegen.dynamics.uncertainty_roots; their public names are re-exported here, so
+# ``from sitegen.dynamics.uncertainty import lever_limits`` keeps working.
+__all__ = [
+    "BLOCK_SAMPLES",
+    "COARSE_GRID_POINTS",
+    "FOLD_ACCEPT_RELATIVE",
+    "FOLD_NEWTON_STEPS",
+    "GRID_POINTS",
+    "LEVER_BISECTIONS",
+    "LEVER_EXPANSIONS",
+    "NEAR_LOW_POINTS",
+    "QUANTILE_LEVELS",
+    "STATE_BISECTIONS",
+    "TOLERANCE_NOTE",
+    "Quantiles",
+    "UncertaintyOutcome",
+    "UncertaintyReport",
+    "draw_samples",
+    "lever_limits",
+    "lever_search_interval",
+    "model_outcome",
+    "persists",
+    "rate_values",
+    "run_uncertainty",
+    "safe_lever_setting",
+    "sample_arguments",
+    "sample_count",
+    "state_grid",
+    "upper_stable_states",
+]
+
 QUANTILE_LEVELS = (0.05, 0.50, 0.95)
-GRID_POINTS = 513  # uniform grid points on the region, for the sign-change scan
-NEAR_LOW_POINTS = 24  # extra geometric points just above the lower end (stocks near zero)
-BLOCK_SAMPLES = 1024  # samples per block: keeps a block's grid arrays in cache
-STATE_BISECTIONS = 60  # halvings of one grid cell: below double precision
-COARSE_GRID_POINTS = 97  # state grid of the cheap first lever bisection
-LEVER_BISECTIONS = 34  # halvings of the lever search interval: about 6e-11 of it
-LEVER_EXPANSIONS = 6  # doublings of the lever search's upper end for samples stable there
-FOLD_NEWTON_STEPS = 8
-FOLD_ACCEPT_RELATIVE = 0.05  # a polished fold is kept when this close above the bisection
 TOLERANCE_NOTE = (
     "a collapse-risk tolerance of 5% is a common choice in precautionary harvest advice; "
     "there is no single source for it"
@@ -173,17 +214,6 @@ def draw_samples(
     return draws
 
 
-# -- vectorised root finding ---------------------------------------------------------------
-
-
-def state_grid(model: Model, points: int = GRID_POINTS) -> np.ndarray:
-    """Uniform grid on the region plus a few geometric points just above its lower end."""
-    low, high = model.region
-    span = high - low
-    near_low = low + span * np.geomspace(1e-10, 1e-2, NEAR_LOW_POINTS)
-    return np.unique(np.concatenate([np.linspace(low, high, points), near_low]))
-
-
 def sample_arguments(
     model: Model, draws: Mapping[str, np.ndarray], fixed: Mapping[str, float] | None = None
 ) -> list[np.ndarray | float]:
@@ -200,243 +230,6 @@ def sample_arguments(
         else:
             arguments.append(float(fixed.get(name, value)))
     return arguments
-
-
-def _block(
-    arguments: Sequence[np.ndarray | float], rows: slice, column: bool
-) -> list[np.ndarray | float]:
-    """Arguments restricted to a block of samples, as columns (n, 1) when ``column``."""
-    out: list[np.ndarray | float] = []
-    for value in arguments:
-        if isinstance(value, np.ndarray) and value.ndim == 1:
-            part = value[rows]
-            out.append(part[:, None] if column else part)
-        else:
-            out.append(value)
-    return out
-
-
-def _count(arguments: Sequence[np.ndarray | float]) -> int:
-    sizes = {a.size for a in arguments if isinstance(a, np.ndarray) and a.ndim == 1}
-    if len(sizes) > 1:
-        raise ValueError("all per-sample arguments must have the same length")
-    return sizes.pop() if sizes else 1
-
-
-def _values(
-    function: Callable[..., object], x: np.ndarray, arguments: Sequence[np.ndarray | float]
-) -> np.ndarray:
-    """``function(x, *arguments)`` as a float array of the broadcast shape.
-
-    Lambdified constants come back as plain numbers; they are broadcast to the shape.
-    """
-    shape = np.broadcast_shapes(np.shape(x), *[np.shape(a) for a in arguments])
-    with np.errstate(all="ignore"):
-        values = np.asarray(function(x, *arguments), dtype=float)
-    # Broadcasting (a read-only view) only when needed: a full-grid copy costs a pass.
-    return values if values.shape == shape else np.broadcast_to(values, shape)
-
-
-@dataclass(frozen=True)
-class _Scan:
-    """Per-sample results of one grid scan."""
-
-    stable: np.ndarray  # bool: a + to - sign change exists
-    escapes: np.ndarray  # bool: f > 0 at the upper end (the state leaves upward)
-    cell: np.ndarray  # int: grid cell of the highest + to - change (0 where none)
-    peak: np.ndarray  # int: grid index of the largest f (a fold's x seed)
-
-
-def _scan(
-    model: Model,
-    grid: np.ndarray,
-    arguments: Sequence[np.ndarray | float],
-    count: int,
-    light: bool = False,
-) -> _Scan:
-    """Sign-change scan of f on the sample-by-state grid, block by block.
-
-    ``light`` skips the cell and peak indices (the lever test needs only existence).
-    """
-    rate = model.numeric()
-    stable = np.zeros(count, dtype=bool)
-    escapes = np.zeros(count, dtype=bool)
-    cell = np.zeros(count, dtype=np.intp)
-    peak = np.zeros(count, dtype=np.intp)
-    cells = grid.size - 1
-    for start in range(0, count, BLOCK_SAMPLES):
-        rows = slice(start, min(start + BLOCK_SAMPLES, count))
-        values = _values(rate, grid[None, :], _block(arguments, rows, column=True))
-        if values.shape[0] != rows.stop - rows.start:  # no per-sample argument at all
-            values = np.broadcast_to(values, (rows.stop - rows.start, grid.size))
-        # + below and <= 0 above: a downward crossing, i.e. a stable root (NaN is neither).
-        down = (values[:, :-1] > 0) & (values[:, 1:] <= 0)
-        stable[rows] = down.any(axis=1)
-        escapes[rows] = values[:, -1] > 0
-        if light:
-            continue
-        cell[rows] = cells - 1 - np.argmax(down[:, ::-1], axis=1)
-        peak[rows] = np.argmax(np.where(np.isfinite(values), values, -np.inf), axis=1)
-    return _Scan(stable, escapes, cell, peak)
-
-
-def upper_stable_states(
-    model: Model, arguments: Sequence[np.ndarray | float], grid: np.ndarray | None = None
-) -> tuple[np.ndarray, np.ndarray]:
-    """Per sample: the upper stable state (NaN if none) and whether the state escapes upward.
-
-    ``arguments`` are the model's parameter arguments (arrays of one length n, or
-    scalars). The bracket from the scan is narrowed by bisection for all samples
-    at once.
-    """
-    grid = state_grid(model) if grid is None else grid
-    count = _count(arguments)
-    scan = _scan(model, grid, arguments, count)
-    states = np.full(count, np.nan)
-    chosen = np.nonzero(scan.stable)[0]
-    if chosen.size:
-        low = grid[scan.cell[chosen]]
-        high = grid[scan.cell[chosen] + 1]
-        picked = [a[chosen] if isinstance(a, np.ndarray) and a.ndim == 1 else a for a in arguments]
-        rate = model.numeric()
-        for _ in range(STATE_BISECTIONS):
-            middle = 0.5 * (low + high)
-            above = _values(rate, middle, picked) > 0
-            low = np.where(above, middle, low)
-            high = np.where(above, high, middle)
-        states[chosen] = 0.5 * (low + high)
-    return states, scan.escapes & ~scan.stable
-
-
-def persists(model: Model, arguments: Sequence[np.ndarray | float], grid: np.ndarray) -> np.ndarray:
-    """Per sample: True when a stable positive state exists or the state escapes upward."""
-    scan = _scan(model, grid, arguments, _count(arguments), light=True)
-    return scan.stable | scan.escapes
-
-
-# -- the lever limit -----------------------------------------------------------------------
-
-
-def lever_search_interval(model: Model) -> tuple[float, float]:
-    """Where the lever bisection starts: the lever's range, else [min(0, v), 2|v| or 1]."""
-    assert model.lever is not None
-    if model.lever in model.ranges:
-        low, high = model.ranges[model.lever]
-        return float(low), float(high)
-    value = float(model.values[model.lever])
-    return min(0.0, value), (2.0 * abs(value) if value else 1.0)
-
-
-def lever_limits(
-    model: Model, arguments: Sequence[np.ndarray | float], grid: np.ndarray | None = None
-) -> tuple[np.ndarray, tuple[float, float], int]:
-    """Per sample: the largest lever value that keeps a stable positive state.
-
-    Returns the limits (``-inf`` below the search, ``+inf`` above it), the initial
-    search interval, and how many limits were Newton-polished at a fold
-    (f = f_x = 0). Three passes, all vectorised over the samples:
-
-    1. the search interval is checked (and expanded upward) on the full grid;
-    2. bisection on a coarse state grid, which is cheap and exact except that two
-       roots inside one coarse cell are missed (a limit biased low by about 5e-4
-       relative for the logistic with a quota);
-    3. Newton on (x, lever) for f = f_x = 0 from there, kept where it converges
-       (double precision at a fold; a transcritical point also solves f = f_x = 0).
-       Samples where Newton does not settle keep the bisection value.
-    """
-    assert model.lever is not None
-    fine = state_grid(model) if grid is None else grid
-    coarse = state_grid(model, COARSE_GRID_POINTS)
-    index = model.parameters.index(model.lever)
-    count = _count(arguments)
-    low_0, high_0 = lever_search_interval(model)
-
-    def test(
-        levers: np.ndarray, rows: np.ndarray | None = None, on: np.ndarray = coarse
-    ) -> np.ndarray:
-        trial = [
-            a[rows] if rows is not None and isinstance(a, np.ndarray) and a.ndim == 1 else a
-            for a in arguments
-        ]
-        trial[index] = levers
-        return persists(model, trial, on)
-
-    low = np.full(count, low_0)
-    high = np.full(count, high_0)
-    below = ~test(low, on=fine)
-    still = test(high, on=fine) & ~below
-    for _ in range(LEVER_EXPANSIONS):
-        if not still.any():
-            break
-        # Samples still stable at the top: move the bottom to the old top, the top up.
-        low = np.where(still, high, low)
-        high = np.where(still, low_0 + 2.0 * (high - low_0), high)
-        still = still & test(high, on=fine)
-    active = ~below & ~still
-    for _ in range(LEVER_BISECTIONS):
-        middle = 0.5 * (low + high)
-        ok = test(middle)
-        low = np.where(ok & active, middle, low)
-        high = np.where(~ok & active, middle, high)
-    polished_values, polished = _polish_folds(model, arguments, coarse, index, low, active)
-    limits = np.where(polished, polished_values, low)
-    limits[below] = -np.inf
-    limits[still] = np.inf
-    return limits, (low_0, high_0), int(np.count_nonzero(polished))
-
-
-def _polish_folds(
-    model: Model,
-    arguments: Sequence[np.ndarray | float],
-    grid: np.ndarray,
-    index: int,
-    low: np.ndarray,
-    active: np.ndarray,
-) -> tuple[np.ndarray, np.ndarray]:
-    """Newton on (x, lever) for f = f_x = 0, seeded at the peak of f at the lever ``low``.
-
-    Kept only where finite, inside the region, at a maximum of f (f_xx < 0, so the
-    stable branch ends there), not below ``low`` (where a stable state was seen) and
-    within ``FOLD_ACCEPT_RELATIVE`` of it.
-    """
-    lever = model.lever
-    assert lever is not None
-    trial = list(arguments)
-    trial[index] = low
-    scan = _scan(model, grid, trial, low.size)
-    x = grid[scan.peak]
-    levers = low.copy()
-    f, f_x = model.numeric(), model.numeric(1)
-    f_l, f_xx, f_xl = model.numeric(0, (lever,)), model.numeric(2), model.numeric(1, (lever,))
-    with np.errstate(all="ignore"):
-        for _ in range(FOLD_NEWTON_STEPS):
-            trial[index] = levers
-            a, b = _values(f_x, x, trial), _values(f_l, x, trial)
-            c, d = _values(f_xx, x, trial), _values(f_xl, x, trial)
-            r0 = _values(f, x, trial)
-            det = a * d - b * c
-            # Solve [[f_x, f_l], [f_xx, f_xl]] (dx, dlever) = (f, f_x).
-            x = x - (d * r0 - b * a) / det
-            levers = levers - (a * a - c * r0) / det
-        trial[index] = levers
-        curvature = _values(f_xx, x, trial)
-        residual = np.abs(_values(f, x, trial)) + np.abs(_values(f_x, x, trial)) * (
-            grid[-1] - grid[0]
-        )
-        scale = np.abs(_values(f_l, x, trial)) * np.maximum(np.abs(levers), 1e-300)
-    size = np.maximum(np.abs(low), 1e-300)
-    good = (
-        active
-        & np.isfinite(levers)
-        & np.isfinite(x)
-        & (curvature < 0)
-        & (x > grid[0])
-        & (x < grid[-1])
-        & (levers >= low * (1 - 1e-12) - 1e-300)
-        & (levers - low <= FOLD_ACCEPT_RELATIVE * size)
-        & (residual <= 1e-9 * scale)
-    )
-    return levers, good
 
 
 def safe_lever_setting(limits: np.ndarray, tolerance: float) -> float:
@@ -467,7 +260,7 @@ def model_outcome(
     in the lever's value.
     """
     arguments = sample_arguments(model, draws, fixed)
-    count = _count(arguments)
+    count = sample_count(arguments)
     grid = state_grid(model)
     states, escaped = upper_stable_states(model, arguments, grid)
     collapsed_mask = np.isnan(states) & ~escaped
@@ -487,7 +280,7 @@ def model_outcome(
     yield_quantiles = None
     if model.yield_ is not None:
         yield_function = sympy.lambdify(model.argument_symbols, model.yield_, modules="numpy")
-        yields = _values(yield_function, states, arguments)
+        yields = rate_values(yield_function, states, arguments)
         yields = np.where(np.isnan(states), np.nan, yields)
         yield_quantiles = Quantiles.of(yields)
     lever_value = None
