@@ -5,9 +5,9 @@ from __future__ import annotations
 import argparse
 from collections.abc import Callable
 
-Command = tuple[str, Callable[[argparse.ArgumentParser], None], Callable[[argparse.Namespace], int]]
-
 from sitegen import analyse_command, new_command
+
+Command = tuple[str, Callable[[argparse.ArgumentParser], None], Callable[[argparse.Namespace], int]]
 
 COMMANDS: dict[str, Command] = {
     "analyse": analyse_command.COMMAND,
