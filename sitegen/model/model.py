@@ -20,7 +20,7 @@ import mpmath
 import numpy as np
 import sympy
 
-from sitegen.scenario.records import Policy, Scenario
+from sitegen.scenario.records import HIGHER, Policy, Scenario
 
 NumericFunction = Callable[..., np.ndarray]
 
@@ -32,7 +32,9 @@ class Model:
     ``parameters`` lists every parameter name in a fixed order (declaration
     order); ``values`` holds their current values, ``ranges`` the explored
     intervals of those that have one. ``region_note`` says how the upper end
-    was chosen when the scenario gave none.
+    was chosen when the scenario gave none. ``better`` is the scenario's
+    ``[state] better``: "higher" (protect the upper stable state) or "lower"
+    (protect the lowest one; the danger is a flip up).
     """
 
     slug: str
@@ -51,6 +53,7 @@ class Model:
     yield_: sympy.Expr | None = None
     current_state: float | None = None
     name: str = "base"
+    better: str = HIGHER
     _cache: dict[str, object] = field(default_factory=dict, compare=False, repr=False)
 
     # -- symbolic ---------------------------------------------------------------------------
@@ -146,6 +149,7 @@ class Model:
             self.yield_,
             self.current_state,
             self.name,
+            self.better,
             self._cache,
         )
 
@@ -198,6 +202,7 @@ def build_model(scenario: Scenario, policy: Policy | None = None) -> Model:
         yield_=yield_,
         current_state=scenario.state.current,
         name=name,
+        better=scenario.state.better,
     )
     if scenario.state.max is not None:
         return model
@@ -219,6 +224,7 @@ def build_model(scenario: Scenario, policy: Policy | None = None) -> Model:
         model.yield_,
         model.current_state,
         model.name,
+        model.better,
     )
 
 

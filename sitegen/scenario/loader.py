@@ -20,10 +20,17 @@ import sympy
 
 from sitegen.errors import FormulaError, ScenarioError, did_you_mean
 from sitegen.scenario import units
-from sitegen.scenario.checker import Checker, dotted
+from sitegen.scenario.checker import Checker, dotted, shorten
 from sitegen.scenario.formula import ParsedFormula, parse_formula
 from sitegen.scenario.locate import Path, SourceIndex
-from sitegen.scenario.records import ModelSpec, Parameter, Scenario, StateSpec
+from sitegen.scenario.records import (
+    DIRECTIONS,
+    HIGHER,
+    ModelSpec,
+    Parameter,
+    Scenario,
+    StateSpec,
+)
 from sitegen.scenario.sections import OptionalSections
 
 MAX_FILE_BYTES = 1_000_000
@@ -270,10 +277,17 @@ class _Reader(OptionalSections):
                 f"collapse_level ({collapse:g}) lies below min ({low:g})",
                 "set it between min and today's state",
             )
+        better = check.text(table, ("state", "better"), HIGHER)
+        if better not in DIRECTIONS:
+            check.fail(
+                ("state", "better"),
+                f"unknown direction '{shorten(better)}' for better",
+                did_you_mean(shorten(better), DIRECTIONS),
+            )
         self.declare(symbol, ("state", "symbol"), unit, positive=False)
         self.state_unit = unit
         return StateSpec(
-            symbol, check.text(table, ("state", "name")), unit, low, high, current, collapse
+            symbol, check.text(table, ("state", "name")), unit, low, high, current, collapse, better
         )
 
     def parameters(self, raw: Any, key_path: Path, base: bool) -> tuple[Parameter, ...]:

@@ -12,10 +12,19 @@ import sympy
 
 from sitegen.scenario.formula import ParsedFormula
 
+HIGHER = "higher"  # [state] better: a larger state is better (stocks, herds, water levels)
+LOWER = "lower"  # [state] better: a smaller state is better (pollutants, nutrients, pests)
+DIRECTIONS = (HIGHER, LOWER)
+
 
 @dataclass(frozen=True)
 class StateSpec:
-    """The single state variable and the region of it that is analysed."""
+    """The single state variable and the region of it that is analysed.
+
+    ``better`` is "higher" (a stock: the upper stable state is protected and
+    collapse is a fall) or "lower" (a pollutant or pest: the lowest stable state
+    is protected and the danger is a flip up to the high state).
+    """
 
     symbol: str
     name: str
@@ -24,6 +33,7 @@ class StateSpec:
     max: float | None
     current: float | None = None
     collapse_level: float | None = None
+    better: str = HIGHER
 
 
 @dataclass(frozen=True)

@@ -51,6 +51,12 @@ SECTIONS: dict[str, tuple[Key, ...]] = {
             "Level at or below which the state counts as collapsed.",
             "min",
         ),
+        _key(
+            "better",
+            "text",
+            'Which way is good: "higher" (stocks, water) or "lower" (pollutants, pests).',
+            '"higher"',
+        ),
     ),
     "parameter": (
         _key("value", "number", "The parameter's value.", required=True),
