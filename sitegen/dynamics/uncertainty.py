@@ -47,6 +47,12 @@ from dataclasses import dataclass, field
 import numpy as np
 import sympy
 
+from sitegen.dynamics.direction import (
+    lever_side,
+    low_lever_limits,
+    low_stable_states,
+    safe_side_setting,
+)
 from sitegen.dynamics.uncertainty_roots import (
     BLOCK_SAMPLES,
     COARSE_GRID_POINTS,
@@ -66,7 +72,13 @@ from sitegen.dynamics.uncertainty_roots import (
     upper_stable_states,
 )
 from sitegen.model.model import Model, build_model
-from sitegen.scenario.records import Scenario, UncertainParameter, UncertaintySpec
+from sitegen.scenario.records import (
+    HIGHER,
+    LOWER,
+    Scenario,
+    UncertainParameter,
+    UncertaintySpec,
+)
 
 # The vectorised root bracketing and lever-limit search live in
 # sitegen.dynamics.uncertainty_roots; their public names are re-exported here, so
@@ -136,6 +148,11 @@ class UncertaintyOutcome:
     upper end. ``safe_lever`` is the largest lever setting whose collapse risk stays
     at or under the tolerance: the order statistic k + 1 (k = floor(tolerance * n))
     of the sorted lever limits, i.e. the empirical tolerance quantile.
+
+    With ``better = "lower"`` (see :mod:`sitegen.dynamics.direction`) ``states`` are
+    the low stable states, ``collapse_risk`` is the flip risk (no low state left),
+    the lever limits are where the low state vanishes and ``limit_side`` says
+    whether the lever must stay below them ("largest") or above ("smallest").
     """
 
     name: str
@@ -154,6 +171,8 @@ class UncertaintyOutcome:
     lever_polished: int = 0
     notes: tuple[str, ...] = ()
     warnings: tuple[str, ...] = ()
+    better: str = HIGHER
+    limit_side: str = "largest"
     states: np.ndarray = field(default_factory=lambda: np.empty(0), compare=False, repr=False)
     yields: np.ndarray = field(default_factory=lambda: np.empty(0), compare=False, repr=False)
     lever_limits: np.ndarray = field(default_factory=lambda: np.empty(0), compare=False, repr=False)
@@ -262,13 +281,22 @@ def model_outcome(
     arguments = sample_arguments(model, draws, fixed)
     count = sample_count(arguments)
     grid = state_grid(model)
-    states, escaped = upper_stable_states(model, arguments, grid)
+    lower = model.better == LOWER
+    if lower:
+        # A pollutant or pest: the low state is the one kept; running away upward is a flip.
+        states = low_stable_states(model, arguments, grid)
+        escaped = np.zeros(count, dtype=bool)
+    else:
+        states, escaped = upper_stable_states(model, arguments, grid)
     collapsed_mask = np.isnan(states) & ~escaped
     collapsed = int(np.count_nonzero(collapsed_mask))
     risk = collapsed / count
     notes: list[str] = [
-        "stable state: the upper stable state when there are several; quantiles over the "
-        "samples that keep one",
+        "stable state: the lowest stable state (better = lower); flip risk: the share of "
+        "samples with no low state left; quantiles over the samples that keep one"
+        if lower
+        else "stable state: the upper stable state when there are several; quantiles over "
+        "the samples that keep one",
     ]
     warnings: list[str] = []
     if np.any(escaped):
@@ -289,21 +317,43 @@ def model_outcome(
     bound = ""
     search = None
     polished = 0
+    side = "largest"
     lever = model.lever
     if lever is not None and model.symbols[lever] in model.rate.free_symbols:
         lever_value = float(model.values[lever])
-        limit_values, search, polished = limits or lever_limits(model, arguments, grid)
+        if lower:
+            limit_values, search, side = (
+                (limits[0], limits[1], lever_side(model))
+                if limits
+                else low_lever_limits(model, arguments, grid)
+            )
+        else:
+            limit_values, search, polished = limits or lever_limits(model, arguments, grid)
         clamped = np.clip(limit_values, search[0], np.inf)
         finite = clamped[np.isfinite(clamped)]
         limit_quantiles = Quantiles.of(clamped) if finite.size else None
-        safe = safe_lever_setting(limit_values, tolerance)
+        safe = safe_side_setting(limit_values, tolerance, side)
         if safe == np.inf:
-            bound = "above the lever search; at least its upper end"
+            bound = (
+                "above the lever search; at least its upper end"
+                if side == "largest"
+                else "above the lever search: no setting in it keeps the risk under the tolerance"
+            )
         elif safe == -np.inf:
-            bound = "below the lever search: no setting in it keeps the risk under the tolerance"
+            bound = (
+                "below the lever search: no setting in it keeps the risk under the tolerance"
+                if side == "largest"
+                else "below the lever search; any setting in it keeps the risk under the tolerance"
+            )
         notes.append(
             f"lever limits: bisection on {lever} from [{search[0]:g}, {search[1]:g}], "
-            f"{polished} of {count} Newton-polished on f = f_x = 0"
+            + (
+                f"where the low state vanishes ({lever} must stay "
+                + ("below" if side == "largest" else "above")
+                + " it)"
+                if lower
+                else f"{polished} of {count} Newton-polished on f = f_x = 0"
+            )
         )
         censored = int(np.count_nonzero(np.isinf(limit_values)))
         if censored:
@@ -331,6 +381,8 @@ def model_outcome(
         lever_polished=polished,
         notes=tuple(notes),
         warnings=tuple(warnings),
+        better=model.better,
+        limit_side=side,
         states=states,
         yields=yields,
         lever_limits=limit_values,
