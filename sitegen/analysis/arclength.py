@@ -82,6 +82,36 @@ class _Scaled:
             return np.asarray(self._jacobian(self.unscale(s)), dtype=float) * self.width
 
 
+def extended_newton(
+    system: Callable[[np.ndarray], tuple[np.ndarray, np.ndarray]],
+    start: np.ndarray,
+    width: np.ndarray,
+    max_steps: int = 40,
+) -> np.ndarray | None:
+    """Newton's method for a square system G(u) = 0, stepping in coordinates scaled by width.
+
+    ``system(u)`` returns (G(u), dG/du). Stops when the scaled step is below 1e-15, or
+    below 1e-12 and no longer halving (rounding level); None if a step cannot be taken or
+    the iteration does not settle within ``max_steps``.
+    """
+    u, last = start.copy(), np.inf
+    for _ in range(max_steps):
+        values, jacobian = system(u)
+        scaled = jacobian * width
+        if not (np.all(np.isfinite(scaled)) and np.all(np.isfinite(values))):
+            return None
+        try:
+            delta = np.linalg.solve(scaled, -values)
+        except np.linalg.LinAlgError:
+            return None
+        u = u + delta * width
+        size = float(np.max(np.abs(delta)))
+        if size <= 1e-15 or (size < 1e-12 and size >= 0.5 * last):
+            return u
+        last = size
+    return None
+
+
 def null_tangent(jacobian: np.ndarray) -> np.ndarray | None:
     """Unit null vector of an n x (n+1) Jacobian (QR of its transpose), None if not finite."""
     if not np.all(np.isfinite(jacobian)):

@@ -21,6 +21,7 @@ from sitegen.analysis.arclength import (
     StepControl,
     SystemMap,
     Trace,
+    extended_newton,
     null_tangent,
     trace_curve,
 )
@@ -169,31 +170,20 @@ def _refine_fold(
     rate: RateFunctions, name: str, start: np.ndarray, width: np.ndarray
 ) -> np.ndarray | None:
     """Newton on (f, f_x) = 0 in (x, p), in scaled steps; None unless it truly vanishes."""
-    u, last = start.copy(), np.inf
-    for _ in range(40):
-        x, p = u
+
+    def system(v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        x, p = v
         values = np.array([rate(0, (), x, p), rate(1, (), x, p)])
-        jac = (
-            np.array(
-                [
-                    [rate(1, (), x, p), rate(0, (name,), x, p)],
-                    [rate(2, (), x, p), rate(1, (name,), x, p)],
-                ]
-            )
-            * width
+        jacobian = np.array(
+            [
+                [rate(1, (), x, p), rate(0, (name,), x, p)],
+                [rate(2, (), x, p), rate(1, (name,), x, p)],
+            ]
         )
-        if not (np.all(np.isfinite(jac)) and np.all(np.isfinite(values))):
-            return None
-        try:
-            delta = np.linalg.solve(jac, -values)
-        except np.linalg.LinAlgError:
-            return None
-        u = u + delta * width
-        size = float(np.max(np.abs(delta)))
-        if size <= 1e-15 or (size < 1e-12 and size >= 0.5 * last):
-            break
-        last = size
-    else:
+        return values, jacobian
+
+    u = extended_newton(system, start, width)
+    if u is None:
         return None
     x, p = u
     scale_f = abs(rate(1, (), x, p)) * width[0] + abs(rate(0, (name,), x, p)) * width[1]

@@ -23,7 +23,14 @@ from __future__ import annotations
 
 import numpy as np
 
-from sitegen.analysis.arclength import BOX_SLACK, StepControl, SystemMap, Trace, trace_curve
+from sitegen.analysis.arclength import (
+    BOX_SLACK,
+    StepControl,
+    SystemMap,
+    Trace,
+    extended_newton,
+    trace_curve,
+)
 from sitegen.analysis.continuation import RateFunctions, continue_equilibria, seed_values
 from sitegen.analysis.records import Cusp, FoldCurve, ParameterMap
 from sitegen.analysis.scan import scan_grid
@@ -83,7 +90,6 @@ def _refine_cusp(
     rate: RateFunctions, names: tuple[str, str], start: np.ndarray, width: np.ndarray
 ) -> np.ndarray | None:
     """Newton on (f, f_x, f_xx) = 0 in (state, p_x, p_y); None unless it truly vanishes."""
-    u, last = start.copy(), np.inf
 
     def jacobian(v: np.ndarray) -> np.ndarray:
         return np.array(
@@ -94,21 +100,12 @@ def _refine_cusp(
             dtype=float,
         )
 
-    for _ in range(40):
-        values = np.array([rate(k, (), *u) for k in (0, 1, 2)], dtype=float)
-        jac = jacobian(u) * width
-        if not (np.all(np.isfinite(jac)) and np.all(np.isfinite(values))):
-            return None
-        try:
-            delta = np.linalg.solve(jac, -values)
-        except np.linalg.LinAlgError:
-            return None
-        u = u + delta * width
-        size = float(np.max(np.abs(delta)))
-        if size <= 1e-15 or (size < 1e-12 and size >= 0.5 * last):
-            break
-        last = size
-    else:
+    u = extended_newton(
+        lambda v: (np.array([rate(k, (), *v) for k in (0, 1, 2)], dtype=float), jacobian(v)),
+        start,
+        width,
+    )
+    if u is None:
         return None
     scales = np.abs(jacobian(u) * width).sum(axis=1)
     values = np.abs([rate(k, (), *u) for k in (0, 1, 2)])
