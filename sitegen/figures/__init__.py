@@ -1,0 +1,1 @@
+"""Stage 5: figures (analysis records in, deterministic SVG text out)."""
