@@ -1,0 +1,29 @@
+"""The figure kinds, by name: each is a function (scenario, assessment) -> Figure | None.
+
+A kind returns None when it does not apply (no yield declared, no history, no
+uncertainty). Adding a kind is one function and one line here; pages show the
+figures in this order.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+
+from sitegen.dynamics.assess import Assessment
+from sitegen.figures.common import Figure
+from sitegen.scenario.records import Scenario
+
+FigureKind = Callable[[Scenario, Assessment], "Figure | list[Figure] | None"]
+
+KINDS: dict[str, FigureKind] = {}
+
+
+def figures_for(scenario: Scenario, assessment: Assessment) -> list[Figure]:
+    """Every figure that applies to this scenario, in registry order."""
+    result: list[Figure] = []
+    for kind in KINDS.values():
+        made = kind(scenario, assessment)
+        if made is None:
+            continue
+        result.extend(made if isinstance(made, list) else [made])
+    return result
