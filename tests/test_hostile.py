@@ -556,7 +556,7 @@ def test_unknown_key_renders_did_you_mean() -> None:
         "    curent = 640\n"
         "             ^\n"
         "  hint: did you mean 'current'? Allowed here: "
-        "collapse_level, current, max, min, name, symbol, unit."
+        "better, collapse_level, current, max, min, name, symbol, unit."
     )
 
 

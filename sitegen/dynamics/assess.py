@@ -61,7 +61,7 @@ from sitegen.dynamics.sensitivity import SensitivityReport, run_sensitivity
 from sitegen.dynamics.trajectories import integrate
 from sitegen.dynamics.uncertainty import UncertaintyReport, run_uncertainty
 from sitegen.model.model import Model, build_model
-from sitegen.scenario.records import Scenario
+from sitegen.scenario.records import HIGHER, LOWER, Scenario
 
 # Our own numeric failures: root finders and solvers that give up, bad brackets,
 # singular systems. Anything else (TypeError, KeyError, ...) is a bug and propagates.
@@ -106,6 +106,7 @@ class Assessment:
     sensitivity: tuple[SensitivityReport, ...] | None
     notes: dict[str, tuple[str, ...]] = field(default_factory=dict)
     warnings: dict[str, tuple[str, ...]] = field(default_factory=dict)
+    better: str = HIGHER
 
 
 class _Log:
@@ -188,6 +189,7 @@ def assess(
             log.note("dynamics", text)
     collapse_level = scenario.state.collapse_level
     lever = model.lever
+    word, kept = ("flip", "low") if model.better == LOWER else ("collapse", "stable")
     ranged_lever = lever is not None and lever in model.ranges
 
     trajectory = None
@@ -202,11 +204,11 @@ def assess(
         )
     collapse = None
     if lever is None:
-        log.note("dynamics", "no lever in [model]: no collapse past a fold and no hysteresis")
+        log.note("dynamics", f"no lever in [model]: no {word} past a fold and no hysteresis")
     else:
         collapse = log.run(
             "dynamics",
-            "the time to collapse",
+            f"the time to {word}",
             lambda: collapse_past_fold(
                 model, bifurcations, collapse_level=collapse_level, equilibria=equilibria
             ),
@@ -214,8 +216,8 @@ def assess(
         if collapse is None and not log.warnings["dynamics"]:
             log.note(
                 "dynamics",
-                f"today's {lever} is not past a fold that removes the stable state: "
-                "no collapse to time",
+                f"today's {lever} is not past a fold that removes the {kept} state: "
+                f"no {word} to time",
             )
     recovery = log.run(
         "dynamics",
@@ -276,7 +278,12 @@ def assess(
                 "the MSY shown is the yield there, not a maximum",
             )
     status = None
-    if msy is not None and model.current_state is not None:
+    if model.better == LOWER:
+        log.note(
+            "limits",
+            "better = lower: stock status against B_MSY does not apply to a pollutant or pest",
+        )
+    elif msy is not None and model.current_state is not None:
         current = float(model.current_state)
         status = log.run(
             "limits", "the stock status", lambda: stock_status(current, msy, scenario.reference)
@@ -310,7 +317,7 @@ def assess(
         log.note("policies", "no [[policies]]: the table has the base model only")
     uncertainty = None
     if scenario.uncertainty is None:
-        log.note("uncertainty", "no [uncertainty] table: no collapse risk or safe lever setting")
+        log.note("uncertainty", f"no [uncertainty] table: no {word} risk or safe lever setting")
     else:
         uncertainty = log.run("uncertainty", "the Monte Carlo", lambda: run_uncertainty(scenario))
     sensitivity = log.run(
@@ -338,4 +345,5 @@ def assess(
         sensitivity=sensitivity,
         notes=log.frozen(log.notes),
         warnings=log.frozen(log.warnings),
+        better=model.better,
     )

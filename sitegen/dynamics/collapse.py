@@ -24,9 +24,11 @@ import numpy as np
 from sitegen.analysis.bifurcations import SADDLE_NODE
 from sitegen.analysis.equilibria import find_equilibria
 from sitegen.analysis.records import STABLE, Bifurcation, Equilibrium
-from sitegen.dynamics.records import COLLAPSE, Collapse
+from sitegen.dynamics.direction import low_stable_states
+from sitegen.dynamics.records import COLLAPSE, WITHIN_10, Collapse
 from sitegen.dynamics.trajectories import integrate
 from sitegen.model.model import Model
+from sitegen.scenario.records import LOWER
 
 POSITIVE = 1e-9  # of the region's width: a state this close to the lower end is not "positive"
 
@@ -90,13 +92,20 @@ def collapse_past_fold(
     None when a stable positive state exists, or when no saddle-node in the lever
     has been passed. ``start`` defaults to today's state, else the fold's state
     (the former stable state where it was lost); ``collapse_level`` to the
-    region's lower end.
+    region's lower end. With ``better = "lower"`` it is a flip instead: None while
+    a low stable state exists; the time is to within 10% of the high state, which
+    is recorded as the level reached.
     """
     if model.lever is None:
         return None
     if equilibria is None:
         equilibria, _ = find_equilibria(model)
-    if stable_positive(model, equilibria):
+    lower = model.better == LOWER
+    if lower:
+        # A pollutant or pest: the danger is losing the low state, whatever else is stable.
+        if np.isfinite(low_stable_states(model, list(model.args()))[0]):
+            return None
+    elif stable_positive(model, equilibria):
         return None
     fold = passed_fold(model, bifurcations)
     if fold is None:
@@ -108,8 +117,19 @@ def collapse_past_fold(
         start = model.current_state if model.current_state is not None else fold.state_value
     trajectory = integrate(model, float(start), equilibria, collapse_level)
     taken = trajectory.time_of(COLLAPSE)
+    level = trajectory.collapse_level
     note = ""
-    if taken is None:
+    if lower:
+        # The flip ends near the high state: time to come within 10% of it.
+        taken = trajectory.time_of(WITHIN_10)
+        level = trajectory.attractor if trajectory.attractor is not None else model.region[1]
+        if taken is None:
+            note = (
+                f"the state does not settle near a high state from this start ({trajectory.fate})"
+            )
+        elif fold.state_value < start:
+            note = "the start lies above the ghost of the lost low state: no bottleneck is crossed"
+    elif taken is None:
         note = f"the state does not reach the collapse level from this start ({trajectory.fate})"
     elif fold.state_value > start:
         note = "the start lies below the ghost of the lost state, so the bottleneck is not crossed"
@@ -124,6 +144,6 @@ def collapse_past_fold(
         ghost,
         taken,
         float(start),
-        trajectory.collapse_level,
+        level,
         note,
     )

@@ -28,7 +28,7 @@ from sitegen.dynamics.limits import lever_limit, stable_run, sustainable_yield
 from sitegen.dynamics.records import PolicyRow, PolicyTable
 from sitegen.dynamics.recovery import current_stable_state, recovery_after_shock
 from sitegen.model.model import Model, build_model
-from sitegen.scenario.records import Policy, Scenario
+from sitegen.scenario.records import LOWER, Policy, Scenario
 
 KINK = "kink"
 RESIDUAL = 1e-9  # of the typical |f|: larger residuals are not roots
@@ -195,7 +195,8 @@ def compare_policies(
     rows = [policy_row(scenario, None, budget_s, base)]
     rows.extend(policy_row(scenario, policy, budget_s) for policy in scenario.policies)
     best = {
-        "stable_state": _best(rows, "stable_state", True),
+        # A pollutant or pest (better = lower) is best at its lowest stable state.
+        "stable_state": _best(rows, "stable_state", scenario.state.better != LOWER),
         "yield_": _best(rows, "yield_", True),
         "margin": _best(rows, "margin", True),
         "return_time": _best(rows, "return_time", False),

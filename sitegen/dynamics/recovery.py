@@ -30,6 +30,7 @@ from sitegen.dynamics.collapse import passed_fold, stable_positive
 from sitegen.dynamics.records import WITHIN_1, WITHIN_10, Hysteresis, Recovery
 from sitegen.dynamics.trajectories import attractor_of, integrate
 from sitegen.model.model import Model
+from sitegen.scenario.records import LOWER
 
 DEFAULT_SHOCK = 0.5
 PAST_STEP = 1e-6  # of the lever's range: "just past the fold"
@@ -37,10 +38,16 @@ SCAN_POINTS = 2049  # lever values scanned for the rate at the collapse level to
 
 
 def current_stable_state(model: Model, equilibria: Sequence[Equilibrium]) -> Equilibrium | None:
-    """The stable positive state today's state tends to, else the largest stable positive one."""
+    """The stable positive state today's state tends to, else the largest stable positive one.
+
+    With ``better = "lower"`` (a pollutant or pest) the lowest stable positive state,
+    the one to protect, whichever state today's tends to.
+    """
     candidates = stable_positive(model, equilibria)
     if not candidates:
         return None
+    if model.better == LOWER:
+        return candidates[0]
     if model.current_state is not None:
         target = attractor_of(model, model.current_state, equilibria)
         for equilibrium in candidates:

@@ -11,9 +11,12 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 
+import numpy as np
+
 from sitegen.dynamics.assess import Assessment
 from sitegen.dynamics.records import PolicyRow
 from sitegen.dynamics.uncertainty import Quantiles, UncertaintyOutcome
+from sitegen.scenario.records import LOWER
 
 TIE = 1e-9  # relative: values this close to the best of a row are marked best too
 TOP_ELASTICITIES = 3
@@ -84,11 +87,13 @@ def dynamics_lines(a: Assessment) -> list[str]:
                 f"after {_n(fall, u['time'])}"
             )
     c = a.collapse
+    lower = a.better == LOWER
     if c is not None:
         lines.append(
             f"  {c.lever} = {_n(c.lever_value, u['lever'])} is {_n(c.distance, u['lever'])} past "
-            f"the fold at {_n(c.fold_value, u['lever'])}: collapse to "
-            f"{_n(c.collapse_level, u['state'])} in {_time(c.collapse_time, u['time'])} "
+            f"the fold at {_n(c.fold_value, u['lever'])}: "
+            + ("flip up to " if lower else "collapse to ")
+            + f"{_n(c.collapse_level, u['state'])} in {_time(c.collapse_time, u['time'])} "
             f"(bottleneck estimate pi/sqrt(ab) = {_n(c.ghost_time, u['time'])})"
         )
     r = a.recovery
@@ -114,8 +119,9 @@ def dynamics_lines(a: Assessment) -> list[str]:
                 f"({_n(h.distance, u['lever'])} beyond the fold)"
             )
         lines.append(
-            f"  hysteresis: once {h.lever} passes {_n(h.fold_value, u['lever'])} the state falls "
-            f"to {_n(h.collapsed_state, u['state'])}; {back}"
+            f"  hysteresis: once {h.lever} passes {_n(h.fold_value, u['lever'])} the state "
+            + ("flips up " if lower else "falls ")
+            + f"to {_n(h.collapsed_state, u['state'])}; {back}"
         )
     return lines
 
@@ -132,6 +138,8 @@ def _bound(value: float | None, o: UncertaintyOutcome | None) -> str:
     """A safe lever setting, with the censored ends of the lever search spelt out."""
     if value is None or o is None or o.lever_search is None or math.isfinite(value):
         return _n(value)
+    if o.limit_side == "smallest":  # the lever must stay above the limits
+        return "none found" if value > 0 else f"any >= {_n(o.lever_search[0])}"
     if value > 0:
         return f">= {_n(o.lever_search[1])}"
     return "none found"
@@ -157,6 +165,11 @@ def policy_lines(a: Assessment) -> list[str]:
         o = outcomes.get(r.name)
         return o.safe_lever if o is not None else None
 
+    lower = a.better == LOWER
+    word = "flip" if lower else "collapse"
+    flips = any(np.isfinite(o.lever_limits).any() or o.collapsed for o in outcomes.values())
+    if lower and not flips:
+        outcomes = {}  # no sample can flip (e.g. a decaying contaminant): no risk rows
     risks = [risk(r) for r in rows]
     present = [(v, r.name) for v, r in zip(risks, rows, strict=True) if v is not None]
     figures: list[tuple[str, list[float | None], str | None]] = [
@@ -168,11 +181,11 @@ def policy_lines(a: Assessment) -> list[str]:
         ("margin (% of limit)", [limit_of(r, "margin_percent") for r in rows], None),
         (f"return time ({u['time']})", [r.return_time for r in rows], "return_time"),
         (f"recovery to 10% ({u['time']})", [r.recovery_time for r in rows], "recovery_time"),
-        (f"time to collapse ({u['time']})", [r.collapse_time for r in rows], "collapse_time"),
+        (f"time to {word} ({u['time']})", [r.collapse_time for r in rows], "collapse_time"),
     ]
     if outcomes:
         lowest = min(present)[1] if present else None
-        figures.append(("collapse risk (%)", risks, f"risk:{lowest}"))
+        figures.append((f"{word} risk (%)", risks, f"risk:{lowest}"))
         figures.append((f"safe {lever} ({u['lever']})", [safe(r) for r in rows], None))
     grid = [["", *[r.name for r in rows]]]
     for label, values, key in figures:
@@ -200,8 +213,10 @@ def policy_lines(a: Assessment) -> list[str]:
         ]
         lines.append("  " + "  ".join(cells).rstrip())
     lines.append(
-        "  best: largest stable state, yield and margin; shortest return and recovery; "
-        "longest time to collapse; lowest collapse risk; '-' = does not apply"
+        "  best: "
+        + ("lowest stable state; largest yield" if lower else "largest stable state, yield")
+        + f" and margin; shortest return and recovery; longest time to {word}; lowest "
+        + f"{word} risk; '-' = does not apply"
     )
     for r in rows:
         if a.lever is not None and r.lever_value is None:
@@ -216,9 +231,15 @@ def uncertainty_lines(a: Assessment) -> list[str]:
         return []
     units = a.units
     spread = ", ".join(f"{p.name} {p.distribution}" for p in u.parameters)
+    lower = a.better == LOWER
+    word = "flip" if lower else "collapse"
     lines = [
-        f"Uncertainty ({u.samples} samples, seed {u.seed}; {spread}; collapse = no stable "
-        "positive state left):"
+        f"Uncertainty ({u.samples} samples, seed {u.seed}; {spread}; "
+        + (
+            "flip = no low stable state left, the state goes up to the high one):"
+            if lower
+            else "collapse = no stable positive state left):"
+        )
     ]
 
     def q(value: Quantiles | None, unit: str) -> str:
@@ -227,11 +248,23 @@ def uncertainty_lines(a: Assessment) -> list[str]:
         return f"{_n(value.p05)} / {_n(value.p50)} / {_n(value.p95, unit)}"
 
     for o in u.outcomes:
+        if lower and not o.collapsed and not np.isfinite(o.lever_limits).any():
+            lines.append(
+                f"  {o.name}: no sample has a high state to flip to; the low state "
+                f"{q(o.stable_state, units['state'])} (5/50/95%) holds at every setting: "
+                "no flip risk or lever limit applies"
+            )
+            continue
         lines.append(
-            f"  {o.name}: collapse risk {_n(100 * o.collapse_risk, '%')} "
+            f"  {o.name}: "
+            + ("risk of a flip to the high state " if lower else "collapse risk ")
+            + f"{_n(100 * o.collapse_risk, '%')} "
             f"({o.collapsed} of {o.samples} samples, s.e. {_n(100 * o.collapse_risk_se, '%')})"
         )
-        lines.append(f"    stable state 5/50/95%: {q(o.stable_state, units['state'])}")
+        lines.append(
+            ("    low " if lower else "    ")
+            + f"stable state 5/50/95%: {q(o.stable_state, units['state'])}"
+        )
         if o.yield_ is not None:
             lines.append(f"    yield 5/50/95%: {q(o.yield_, units['yield'])}")
         if o.lever_limit is not None:
@@ -239,7 +272,7 @@ def uncertainty_lines(a: Assessment) -> list[str]:
         if o.safe_lever is not None:
             bound = f" ({o.safe_lever_bound})" if o.safe_lever_bound else ""
             lines.append(
-                f"    safe {o.lever} setting (collapse risk at most {_n(100 * u.tolerance, '%')}, "
+                f"    safe {o.lever} setting ({word} risk at most {_n(100 * u.tolerance, '%')}, "
                 f"a common precautionary choice, no single source): "
                 f"{_bound(o.safe_lever, o)} {units['lever']}{bound}"
             )
