@@ -271,6 +271,8 @@ def uncertainty_lines(a: Assessment) -> list[str]:
             lines.append(f"    {o.lever} limit 5/50/95%: {q(o.lever_limit, units['lever'])}")
         if o.safe_lever is not None:
             bound = f" ({o.safe_lever_bound})" if o.safe_lever_bound else ""
+            if o.limit_side == "smallest" and not bound:
+                bound = f" ({o.lever} at least this)"  # a control effort: more is safer
             lines.append(
                 f"    safe {o.lever} setting ({word} risk at most {_n(100 * u.tolerance, '%')}, "
                 f"a common precautionary choice, no single source): "
