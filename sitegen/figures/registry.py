@@ -11,11 +11,14 @@ from collections.abc import Callable
 
 from sitegen.dynamics.assess import Assessment
 from sitegen.figures.common import Figure
+from sitegen.figures.phase_line import phase_line_figure
 from sitegen.scenario.records import Scenario
 
 FigureKind = Callable[[Scenario, Assessment], "Figure | list[Figure] | None"]
 
-KINDS: dict[str, FigureKind] = {}
+KINDS: dict[str, FigureKind] = {
+    "phase-line": phase_line_figure,
+}
 
 
 def figures_for(scenario: Scenario, assessment: Assessment) -> list[Figure]:
