@@ -116,11 +116,15 @@ def _section(a: Assessment, name: str, body: dict[str, Any]) -> dict[str, Any]:
 def assessment_summary(a: Assessment) -> dict[str, Any]:
     """Stage 3's summary with the stage-4 sections added (plain, JSON-safe data)."""
     data = summary(a.analysis)
+    # Which way is better for the state ("higher" for stocks, "lower" for pollutants and
+    # pests): it decides what collapse, limit and best mean in every section below.
+    data["state"]["better"] = a.better
     data["units"] = dict(a.units)
     data["dynamics"] = _section(
         a,
         "dynamics",
         {
+            "better": a.better,
             "shock": a.shock,
             "trajectory": _trajectory(a.trajectory),
             "collapse": _safe(a.collapse),
@@ -132,6 +136,7 @@ def assessment_summary(a: Assessment) -> dict[str, Any]:
         a,
         "limits",
         {
+            "better": a.better,
             "lever": a.lever,
             "lever_value": _safe(a.lever_value),
             "lever_limit": _safe(a.lever_limit),
@@ -144,6 +149,7 @@ def assessment_summary(a: Assessment) -> dict[str, Any]:
         a,
         "policies",
         {
+            "better": a.better,
             "rows": [_row(r) for r in table.rows] if table else None,
             "best": {k.rstrip("_"): v for k, v in table.best.items()} if table else None,
         },
