@@ -28,7 +28,7 @@ import pytest
 from sitegen.analysis.analyse import analyse
 from sitegen.dynamics.assess import Assessment, assess, units_of
 from sitegen.dynamics.limits import lever_limit, stable_run
-from sitegen.figures import phase_line
+from sitegen.figures import bifurcation, phase_line
 from sitegen.figures.common import MAX_SVG_BYTES, Figure
 from sitegen.figures.registry import KINDS
 from sitegen.model.model import build_model
@@ -163,3 +163,55 @@ def test_phase_line_is_deterministic(slug: str) -> None:
     second = KINDS["phase-line"](scenario, assessment)
     assert isinstance(first, Figure) and isinstance(second, Figure)
     assert first.svg == second.svg and first.csv == second.csv
+
+
+# Bifurcation diagrams ---------------------------------------------------------------------
+@pytest.mark.parametrize("case", CASES)
+def test_bifurcation_figures_for_every_scenario_and_template(case: str) -> None:
+    scenario, assessment = scenario_of(case), light_assessment(case)
+    figures = as_list(KINDS["bifurcation"](scenario, assessment))
+    names = bifurcation.ordered_parameters(scenario, assessment.analysis)
+    assert [f.name for f in figures] == bifurcation.figure_names(names)
+    if assessment.lever in names:
+        assert names[0] == assessment.lever
+    for figure, parameter in zip(figures, names, strict=True):
+        root = check_svg(figure)
+        folds = [b for b in assessment.analysis.bifurcations if b.parameter == parameter]
+        assert len(ids_of(root, figure.name, "bifurcation-")) == len(folds)
+        assert ids_of(root, figure.name, "branch-")
+
+
+@pytest.mark.parametrize("slug", BISTABLE)
+def test_bifurcation_markers_and_rows_are_the_plotted_points(slug: str) -> None:
+    scenario, assessment = scenario_of(f"scenario:{slug}"), full_assessment(slug)
+    lever = assessment.lever
+    assert lever is not None
+    mpl_figure, table, _, description = bifurcation.draw(scenario, assessment, lever)
+    artists = artists_by_gid(mpl_figure)
+    folds = [b for b in assessment.analysis.bifurcations if b.parameter == lever]
+    for k, record in enumerate(folds):
+        marker = artists[f"bifurcation-{record.kind}-{k}"]
+        xy = np.asarray(marker.get_xydata())  # type: ignore[attr-defined]
+        assert xy.tolist() == [[record.parameter_value, record.state_value]]
+    lines = sorted((g, a) for g, a in artists.items() if g.startswith("branch-"))
+    plotted = {(float(p), float(x), g.endswith("-stable")) for g, a in lines
+               for p, x in a.get_xydata()}  # type: ignore[attr-defined]  # fmt: skip
+    rows = {(float(r[2]), float(r[3]), r[4] == "yes") for r in table.rows}
+    assert rows == plotted
+    assert len(table.rows) == sum(len(a.get_xydata()) for _, a in lines)  # type: ignore[attr-defined]
+    for _, line in lines:
+        stable = line.get_gid().endswith("-stable")  # type: ignore[attr-defined]
+        assert line.get_linestyle() == ("-" if stable else "--")  # type: ignore[attr-defined]
+    assert "today" in description.lower()
+
+
+@pytest.mark.parametrize("slug", BISTABLE)
+def test_bifurcation_follows_better_and_is_deterministic(slug: str) -> None:
+    scenario, assessment = scenario_of(f"scenario:{slug}"), full_assessment(slug)
+    first = as_list(KINDS["bifurcation"](scenario, assessment))
+    second = as_list(KINDS["bifurcation"](scenario, assessment))
+    assert [f.svg for f in first] == [f.svg for f in second]
+    lever_figure = first[0]
+    if assessment.lever_limit is not None and assessment.better == "lower":
+        assert "flip to the high state" in lever_figure.svg
+        assert "collapse" not in lever_figure.description

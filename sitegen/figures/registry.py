@@ -10,6 +10,7 @@ from __future__ import annotations
 from collections.abc import Callable
 
 from sitegen.dynamics.assess import Assessment
+from sitegen.figures.bifurcation import bifurcation_figures
 from sitegen.figures.common import Figure
 from sitegen.figures.phase_line import phase_line_figure
 from sitegen.scenario.records import Scenario
@@ -18,6 +19,7 @@ FigureKind = Callable[[Scenario, Assessment], "Figure | list[Figure] | None"]
 
 KINDS: dict[str, FigureKind] = {
     "phase-line": phase_line_figure,
+    "bifurcation": bifurcation_figures,
 }
 
 
