@@ -28,7 +28,7 @@ import pytest
 from sitegen.analysis.analyse import analyse
 from sitegen.dynamics.assess import Assessment, assess, units_of
 from sitegen.dynamics.limits import lever_limit, stable_run
-from sitegen.figures import bifurcation, phase_line
+from sitegen.figures import bifurcation, parameter_map, phase_line
 from sitegen.figures.common import MAX_SVG_BYTES, Figure
 from sitegen.figures.registry import KINDS
 from sitegen.model.model import build_model
@@ -215,3 +215,50 @@ def test_bifurcation_follows_better_and_is_deterministic(slug: str) -> None:
     if assessment.lever_limit is not None and assessment.better == "lower":
         assert "flip to the high state" in lever_figure.svg
         assert "collapse" not in lever_figure.description
+
+
+# Parameter maps ---------------------------------------------------------------------------
+@pytest.mark.parametrize("case", CASES)
+def test_maps_for_every_scenario_and_template(case: str) -> None:
+    scenario, assessment = scenario_of(case), light_assessment(case)
+    maps = assessment.analysis.maps
+    figures = as_list(KINDS["parameter-map"](scenario, assessment))
+    assert [f.name for f in figures] == parameter_map.figure_names(maps)
+    for figure, one in zip(figures, maps, strict=True):
+        root = check_svg(figure)
+        assert len(ids_of(root, figure.name, "cusp-")) == len(one.cusps)
+        assert len(ids_of(root, figure.name, "fold-curve-")) == len(one.fold_curves)
+        assert ids_of(root, figure.name, "today")
+        for count in {int(c) for c in one.stable_counts.ravel()}:
+            assert ("no stable state" if count == 0 else f"{count} stable state") in figure.svg
+        declared = scenario.uncertainty is not None and bool(
+            {one.x, one.y} & {p.name for p in scenario.uncertainty.parameters}
+        )
+        assert bool(ids_of(root, figure.name, "samples")) == declared
+
+
+@pytest.mark.parametrize("slug", BISTABLE)
+def test_map_rows_cusps_and_samples_are_the_plotted_points(slug: str) -> None:
+    scenario, assessment = scenario_of(f"scenario:{slug}"), full_assessment(slug)
+    for one in assessment.analysis.maps:
+        mpl_figure, table, _, _ = parameter_map.draw(scenario, assessment, one)
+        artists = artists_by_gid(mpl_figure)
+        folds = [np.asarray(artists[f"fold-curve-{k}"].get_xydata())  # type: ignore[attr-defined]
+                 for k in range(len(one.fold_curves))]  # fmt: skip
+        plotted = np.concatenate(folds) if folds else np.empty((0, 2))
+        np.testing.assert_array_equal(np.array(table.rows, dtype=float)[:, 1:3], plotted)
+        for k, cusp in enumerate(one.cusps):
+            xy = artists[f"cusp-{k}"].get_xydata()  # type: ignore[attr-defined]
+            assert np.asarray(xy).tolist() == [[cusp.parameters[one.x], cusp.parameters[one.y]]]
+        if "samples" in artists:
+            # Each sample is drawn as a tiny dash: (x, y), (x + nudge, y), gap.
+            dots = np.asarray(artists["samples"].get_xydata())[::3]  # type: ignore[attr-defined]
+            assert len(dots) <= parameter_map.MAX_SAMPLES
+            report = assessment.uncertainty
+            assert report is not None
+            # The cloud is the assessment's own draws (the first ones), not new ones.
+            if one.x in report.draws:
+                np.testing.assert_array_equal(dots[:, 0], report.draws[one.x][: len(dots)])
+    first = as_list(KINDS["parameter-map"](scenario, assessment))
+    second = as_list(KINDS["parameter-map"](scenario, assessment))
+    assert [f.svg for f in first] == [f.svg for f in second]

@@ -12,6 +12,7 @@ from collections.abc import Callable
 from sitegen.dynamics.assess import Assessment
 from sitegen.figures.bifurcation import bifurcation_figures
 from sitegen.figures.common import Figure
+from sitegen.figures.parameter_map import map_figures
 from sitegen.figures.phase_line import phase_line_figure
 from sitegen.scenario.records import Scenario
 
@@ -20,6 +21,7 @@ FigureKind = Callable[[Scenario, Assessment], "Figure | list[Figure] | None"]
 KINDS: dict[str, FigureKind] = {
     "phase-line": phase_line_figure,
     "bifurcation": bifurcation_figures,
+    "parameter-map": map_figures,
 }
 
 
