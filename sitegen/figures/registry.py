@@ -14,6 +14,10 @@ from sitegen.figures.bifurcation import bifurcation_figures
 from sitegen.figures.common import Figure
 from sitegen.figures.parameter_map import map_figures
 from sitegen.figures.phase_line import phase_line_figure
+from sitegen.figures.risk import risk
+from sitegen.figures.trajectories import trajectories
+from sitegen.figures.trend import trend
+from sitegen.figures.yields import yield_curves
 from sitegen.scenario.records import Scenario
 
 FigureKind = Callable[[Scenario, Assessment], "Figure | list[Figure] | None"]
@@ -22,6 +26,10 @@ KINDS: dict[str, FigureKind] = {
     "phase-line": phase_line_figure,
     "bifurcation": bifurcation_figures,
     "parameter-map": map_figures,
+    "trajectories": trajectories,
+    "yield-curves": yield_curves,
+    "risk": risk,
+    "trend": trend,
 }
 
 
