@@ -113,7 +113,10 @@ def test_json_keeps_the_stage_3_contract_and_adds_six_sections(
     data = json.loads(sprat_json)
     stage_3 = summary(sprat[1].analysis)
     assert set(stage_3) <= set(data)
-    assert all(data[key] == stage_3[key] for key in stage_3)
+    # Stage 4 only adds: every stage-3 value is unchanged ("state" gains "better").
+    assert all(data[key] == stage_3[key] for key in stage_3 if key != "state")
+    assert stage_3["state"].items() <= data["state"].items()
+    assert data["state"]["better"] == "higher"
     for key in NEW_KEYS:
         assert {"notes", "warnings"} <= set(data[key])
         assert data[key]["warnings"] == [], data[key]["warnings"]
