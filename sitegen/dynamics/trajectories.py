@@ -136,13 +136,23 @@ def integrate(
     rate = model.numeric()
     slope = model.numeric(1)
 
+    # A step may overshoot the lower end before the collapse event stops the run; rates
+    # such as r*B*log(K/B) are undefined there, so evaluate at the nearest inside point.
+    inside = low + 1e-12 * (high - low)
+
     def fun(_t: float, y: np.ndarray) -> np.ndarray:
         with np.errstate(all="ignore"):
-            return np.atleast_1d(np.asarray(rate(y, *args), dtype=float) + 0.0 * y)
+            value = np.asarray(rate(y, *args), dtype=float) + 0.0 * y
+            if not np.all(np.isfinite(value)):
+                value = np.asarray(rate(np.maximum(y, inside), *args), dtype=float) + 0.0 * y
+        return np.atleast_1d(value)
 
     def jac(_t: float, y: np.ndarray) -> np.ndarray:
         with np.errstate(all="ignore"):
-            return np.atleast_2d(np.asarray(slope(y[0], *args), dtype=float))
+            value = float(np.asarray(slope(y[0], *args), dtype=float))
+            if not np.isfinite(value):
+                value = float(np.asarray(slope(max(float(y[0]), inside), *args), dtype=float))
+        return np.atleast_2d(value if np.isfinite(value) else 0.0)
 
     events: list[EventFunction] = [_level_event(level, -1.0, True), _level_event(high, 1.0, True)]
     kinds: list[tuple[str, float]] = [(COLLAPSE, level), (UPPER_END, high)]
