@@ -12,6 +12,7 @@ import math
 import mpmath
 import numpy as np
 import pytest
+from continuation_support import make_model, relative
 
 from sitegen.analysis.continuation import (
     SpecialPoint,
@@ -20,36 +21,12 @@ from sitegen.analysis.continuation import (
     null_tangent,
     trace_curve,
 )
-from sitegen.model.model import Model, build_model
-from sitegen.scenario.loader import load_text
+from sitegen.model.model import Model
 
 REL_TOL = 1e-10  # folds and branch points, relative
 ABS_TOL = 1e-12  # values that are exactly zero (normal forms at the origin)
 RESIDUAL_TOL = 1e-9  # |f| on branch points, relative to the largest term of f
 SEPARATE_TOL = 1e-3  # a special point must be at least this far from a kink (no false folds)
-
-
-def make_model(
-    rate: str,
-    parameters: dict[str, tuple[float, tuple[float, float] | None]],
-    low: float,
-    high: float,
-) -> Model:
-    """A dimensionless model dx/dt = rate on [low, high] (state symbol x)."""
-    parts = [
-        '[scenario]\ntitle = "test"\nsummary = "test"\nassessment_year = 2026\n',
-        f'[state]\nsymbol = "x"\nname = "state"\nunit = "1"\nmin = {low}\nmax = {high}\n',
-    ]
-    for name, (value, bounds) in parameters.items():
-        parts.append(f'[parameters.{name}]\nvalue = {value}\nunit = "1"\nname = "{name}"\n')
-        if bounds is not None:
-            parts.append(f"range = [{bounds[0]}, {bounds[1]}]\n")
-    parts.append(f'[model]\nrate = "{rate}"\ntime_unit = "1"\n')
-    return build_model(load_text("".join(parts), "test.toml", "test"))
-
-
-def relative(value: float, expected: float) -> float:
-    return abs(value - expected) / abs(expected)
 
 
 def only(points: tuple[SpecialPoint, ...], turning: bool) -> list[SpecialPoint]:
