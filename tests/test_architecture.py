@@ -31,8 +31,10 @@ STAGES = (
     "sitegen.model",
     "sitegen.analysis",
     "sitegen.dynamics",
+    "sitegen.fitting",
     "sitegen.figures",
     "sitegen.pages",
+    "sitegen.site",
 )
 LAST = len(STAGES)  # sitegen.cli, sitegen.commands, sitegen.*_command, sitegen.__main__
 FACADE = "sitegen"
