@@ -1,0 +1,1 @@
+"""Stage 5: fitting the model to monitoring data (removals and an abundance index)."""
