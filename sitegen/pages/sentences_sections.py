@@ -1,0 +1,230 @@
+"""Lead sentences of the dossier sections, and the sentences of scenarios without a lever.
+
+``milestones`` reads ``summary["dynamics"]["milestones"]`` when the dynamics
+stage provides it (times until the state crosses a declared reference level,
+the 50% and 95% times of the approach, the half-life) and writes nothing when
+it is absent. ``reference_levels`` compares the resting state with the declared
+limit and target levels.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from sitegen.pages import wording
+from sitegen.pages.sentences_context import Context, Sentence, base_outcome, finite, get, sentence
+
+SECTIONS = ("equilibria", "dynamics", "policies", "uncertainty", "sensitivity", "economics")
+
+
+def _stable(c: Context) -> list[float]:
+    return [
+        e["value"]
+        for e in c.summary.get("equilibria") or []
+        if e.get("stability") == "stable" and finite(e.get("value"))
+    ]
+
+
+def _milestone_items(data: Any) -> list[dict[str, Any]]:
+    """Milestones as a list of dicts, whether the stage gives a list or a dict of parts."""
+    if isinstance(data, list):
+        return [m for m in data if isinstance(m, dict)]
+    if isinstance(data, dict):
+        items = []
+        for key, value in data.items():
+            if isinstance(value, dict):
+                items.append({"kind": key, **value})
+            elif isinstance(value, list):
+                items.extend({"kind": key, **m} for m in value if isinstance(m, dict))
+            elif finite(value):
+                items.append({"kind": key, "time": value})
+        return items
+    return []
+
+
+def milestones(c: Context) -> list[Sentence]:
+    """Times until the state crosses its reference levels, the 50%/95% times, the half-life."""
+    items = _milestone_items(get(c.summary, "dynamics", "milestones"))
+    out: list[Sentence] = []
+    figure = c.figure("trajectories")
+    for m in items:
+        time = m.get("time")
+        kind = str(m.get("kind") or m.get("name") or "")
+        level = m.get("level")
+        if not finite(time):
+            continue
+        if "half" in kind and "life" in kind:
+            text = f"The distance to the resting level halves every {c.t(time)} (half-life)."
+            out.append(sentence("milestone", text, figure, time))
+        elif finite(m.get("fraction")) or "50" in kind or "95" in kind:
+            share = m.get("fraction")
+            share = share if finite(share) else (0.5 if "50" in kind else 0.95)
+            text = (
+                f"The {c.state} covers {wording.percent(share, given='fraction')} of the way "
+                f"to its resting level in {c.t(time)}."
+            )
+            out.append(sentence("milestone", text, figure, share * 100, time))
+        elif finite(level):
+            name = m.get("reference") or m.get("name") or kind or "reference"
+            text = f"The {c.state} reaches the {name} level of {c.s(level)} after {c.t(time)}."
+            out.append(sentence("milestone", text, figure, level, time))
+    return out
+
+
+def reference_levels(c: Context) -> list[Sentence]:
+    """The resting state against the declared limit and target (when no stock status does it)."""
+    if get(c.summary, "limits", "stock_status"):
+        return []
+    stable = _stable(c)
+    attractor = get(c.summary, "dynamics", "trajectory", "attractor")
+    rest = attractor if finite(attractor) else (stable[0] if len(stable) == 1 else None)
+    ref = c.scenario.reference
+    out: list[Sentence] = []
+    for word, level in (("limit", ref.limit), ("target", ref.target), ("trigger", ref.trigger)):
+        if not finite(level) or not finite(rest):
+            continue
+        good = rest <= level if c.lower else rest >= level
+        side = "above" if rest > level else "below" if rest < level else "at"
+        verdict = "meets" if good else "misses"
+        text = (
+            f"The {c.state} comes to rest at {c.s(rest)}, {side} the {word} level of "
+            f"{c.s(level)}: it {verdict} it."
+        )
+        out.append(sentence("reference", text, c.figure("phase-line"), rest, level))
+    return out
+
+
+def _equilibria(c: Context) -> list[Sentence]:
+    stable = _stable(c)
+    figure = c.figure("phase-line")
+    if not stable:
+        return []
+    levels = ", ".join(c.s(v) for v in stable)
+    text = (
+        f"The {c.state} can rest at {len(stable)} stable level{'s' if len(stable) > 1 else ''} "
+        f"at today's settings: {levels}."
+    )
+    out = [sentence("equilibria", text, figure, *stable)]
+    thresholds = [t for t in c.summary.get("thresholds") or [] if finite(t)]
+    if thresholds:
+        t = thresholds[0]
+        if len(stable) > 1:
+            text = (
+                f"The threshold at {c.s(t)} divides them: from below it the {c.state} goes "
+                "to the lower level, from above it to the upper one."
+            )
+        elif c.lower:
+            text = f"Above {c.s(t)} the {c.state} runs away upwards instead of returning."
+        else:
+            text = f"Below {c.s(t)} the {c.state} falls away instead of returning."
+        out.append(sentence("threshold", text, figure, t))
+    return out
+
+
+def _dynamics(c: Context) -> list[Sentence]:
+    r = get(c.summary, "dynamics", "recovery")
+    if not r or not finite(r.get("shock")) or not finite(r.get("stable_state")):
+        return []
+    lost = wording.percent(r["shock"], given="fraction")
+    what = "adding" if c.lower else "losing"
+    lead = f"After {what} {lost} of its resting level of {c.s(r['stable_state'])}, the {c.state}"
+    figure = c.figure("trajectories")
+    if finite(r.get("time_to_10")):
+        text = f"{lead} is back within 10% of it in {c.t(r['time_to_10'])}"
+        values = [r["shock"] * 100, r["stable_state"], r["time_to_10"]]
+        if finite(r.get("time_to_1")):
+            text += f" and within 1% in {c.t(r['time_to_1'])}"
+            values.append(r["time_to_1"])
+        return [sentence("recovery-time", text + ".", figure, *values)]
+    text = f"{lead} does not come back: the shock pushes it past a threshold."
+    return [sentence("recovery-time", text, None, r["shock"] * 100, r["stable_state"])]
+
+
+def _policies(c: Context) -> list[Sentence]:
+    rows = get(c.summary, "policies", "rows") or []
+    best = get(c.summary, "policies", "best") or {}
+    named = {r.get("name"): r for r in rows}
+    out: list[Sentence] = []
+    key, words = ("stable_state", "the lowest resting level" if c.lower else "the largest stock")
+    row = named.get(best.get(key))
+    if row is not None and finite(row.get(key)) and len(rows) > 1:
+        text = f"Of the {len(rows)} rows compared, {row['name']} gives {words}, {c.s(row[key])}."
+        out.append(sentence("policies", text, None, len(rows), row[key]))
+    row = named.get(best.get("yield"))
+    if row is not None and finite(row.get("yield")) and len(rows) > 1:
+        text = f"The largest sustainable yield comes from {row['name']}: {c.y(row['yield'])}."
+        out.append(sentence("policies-yield", text, None, row["yield"]))
+    lost = [r for r in rows if r.get("stable_state") is None and r.get("name")]
+    if lost and len(rows) > 1:
+        what = "flips the state up" if c.lower else "loses the stable state"
+        text = (
+            f"{len(lost)} of the {len(rows)} rows {what}: "
+            + ", ".join(r["name"] for r in lost)
+            + "."
+        )
+        out.append(sentence("policies-lost", text, None, len(lost), len(rows)))
+    return out
+
+
+def _uncertainty(c: Context) -> list[Sentence]:
+    o = base_outcome(c.summary)
+    q = o.get("stable_state") if o else None
+    if not q or not all(finite(q.get(k)) for k in ("p05", "p50", "p95")):
+        return []
+    text = (
+        f"Under the uncertainty, the resting {c.state} lies between {c.s(q['p05'])} and "
+        f"{c.s(q['p95'])} in 90% of the samples (median {c.s(q['p50'])})."
+    )
+    return [sentence("state-spread", text, None, q["p05"], q["p95"], q["p50"])]
+
+
+def _sensitivity(c: Context) -> list[Sentence]:
+    models = get(c.summary, "sensitivity", "models") or []
+    base = next((m for m in models if m.get("name") == "base"), None)
+    target = get(base, "lever_limit") or get(base, "states", 0)
+    if not target:
+        return []
+    ranked = [s for s in target.get("sensitivities") or [] if finite(s.get("elasticity"))]
+    if not ranked:
+        return []
+    top = max(ranked, key=lambda s: abs(s["elasticity"]))
+    what = f"the limit of {c.lever_label}" if get(base, "lever_limit") else f"the resting {c.state}"
+    e = top["elasticity"]
+    way = "rises" if e > 0 else "falls"
+    text = (
+        f"{what[0].upper() + what[1:]} depends most on {top.get('parameter')}: a 1% higher "
+        f"{top.get('parameter')} and it {way} by {wording.percent(abs(e), given='percent')}."
+    )
+    return [sentence("sensitivity", text, None, abs(e))]
+
+
+def _economics(c: Context) -> list[Sentence]:
+    e = get(c.summary, "economics", "economic_yield")
+    if not e or not finite(e.get("mey_lever")) or not finite(e.get("mey_yield")):
+        return []
+    money = wording.quantity(e.get("mey_rent"), f"{e.get('currency', '')}/{c.units['time']}")
+    text = (
+        f"The most profitable setting (maximum economic yield) is {c.lv(e['mey_lever'])}, "
+        f"yielding {c.y(e['mey_yield'])} with a rent of {money}."
+    )
+    out = [sentence("economics", text, None, e["mey_lever"], e["mey_yield"], e.get("mey_rent"))]
+    limit = get(c.summary, "limits", "lever_limit", "limit")
+    if finite(limit) and wording.number(limit) == wording.number(e["mey_lever"]):
+        text = (
+            f"That setting is the tipping point itself ({c.lv(limit)}): it leaves no margin "
+            "and is not a safe setting."
+        )
+        out.append(sentence("economics-caution", text, c.figure("bifurcation"), limit))
+    return out
+
+
+def section_leads(c: Context) -> dict[str, list[Sentence]]:
+    """The lead sentences of each section (every section key present)."""
+    return {
+        "equilibria": _equilibria(c),
+        "dynamics": _dynamics(c),
+        "policies": _policies(c),
+        "uncertainty": _uncertainty(c),
+        "sensitivity": _sensitivity(c),
+        "economics": _economics(c),
+    }
