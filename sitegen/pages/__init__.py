@@ -1,1 +1,1 @@
-"""Stage 7: pages. Self-contained HTML from the earlier stages' records, through Jinja2 templates."""
+"""Stage 7: pages. Self-contained HTML from the earlier stages' records, via Jinja2 templates."""

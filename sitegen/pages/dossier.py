@@ -21,6 +21,7 @@ from markupsafe import Markup
 from sitegen.figures.common import Figure
 from sitegen.pages import dossier_parts as parts
 from sitegen.pages import sentences as words
+from sitegen.pages import wording
 from sitegen.pages.cautions import cautions_for
 from sitegen.pages.formulas import derivative_lhs, formula_mathml
 from sitegen.pages.markup import narrative_html, paragraphs_html
@@ -136,7 +137,20 @@ def _policies(scenario: Scenario) -> list[dict[str, str]]:
             parts_text.append(f"rate d{scenario.state.symbol}/dt = {policy.rate.text}")
         if policy.yield_ is not None:
             parts_text.append(f"yield {policy.yield_.text}")
-        described.append({"name": policy.name, "text": "; ".join(parts_text) or "as the base"})
+        lines = [
+            f"{q.name} = {wording.quantity(q.value, q.unit, 4)}"
+            + (f" ({q.label})" if q.label else "")
+            + (f", explored from {wording.number(q.range[0])} to {wording.number(q.range[1])}"
+               if q.range else "")
+            for q in policy.parameters
+        ]  # fmt: skip
+        described.append(
+            {
+                "name": policy.name,
+                "text": "; ".join(parts_text) or "as the base",
+                "parameters": lines,
+            }
+        )
     return described
 
 
@@ -198,6 +212,7 @@ def render_dossier(d: DossierInput) -> str:
         notes=notes,
         json_name=f"{scenario.slug}.json",
         rate_text=to_formula(scenario.model.rate.expr),
+        time_words=wording.time_words(scenario.model.time_unit),
     )
 
 

@@ -197,7 +197,7 @@ def uncertainty_table(summary: Mapping[str, Any]) -> TableView | None:
         "median",
         f"Safe lever (risk ≤ {wording.number((u.get('tolerance') or 0) * 100)}%)",
     )
-    note = f"{u.get('samples')} samples, seed {u.get('seed')}."
+    note = f"{wording.number(u.get('samples'), 6)} samples, seed {u.get('seed')}."
     return TableView("Under the uncertainty in the parameters", headers, tuple(rows), (note,))
 
 
@@ -245,8 +245,12 @@ def economics_table(summary: Mapping[str, Any]) -> TableView | None:
     units = summary["units"]
     money = units.get("money", "")
     facts: list[tuple[str, Any, str]] = [
-        ("Price per unit of yield", e.get("price"), ""),
-        ("Cost per unit of lever", e.get("cost"), ""),
+        (f"Price per {units['state']} of yield", e.get("price"), e.get("currency") or ""),
+        (
+            f"Cost per unit of lever ({units.get('lever', '')}), per {units['time']}",
+            e.get("cost"),
+            e.get("currency") or "",
+        ),
         ("Lever at maximum economic yield (MEY)", e.get("mey_lever"), units.get("lever", "")),
         ("Yield at MEY", e.get("mey_yield"), units.get("yield", "")),
         ("State at MEY", e.get("mey_state"), units["state"]),
