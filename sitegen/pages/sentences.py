@@ -21,7 +21,7 @@ from sitegen.pages.sentences_context import (
     base_outcome,
     finite,
     get,
-    sentence,
+    risk_applies,
 )
 from sitegen.pages.sentences_limits import (
     NEAR_PERCENT,
@@ -134,7 +134,8 @@ def status(summary: dict[str, Any], scenario: Scenario) -> Status:
         else:
             share = f" ({wording.percent(pct, given='percent')})" if finite(pct) else ""
             clear.append(
-                f"the margin to the limit of {c.lv(limit['limit'])} is {c.lv(limit['margin'])}{share}"
+                f"the margin to the limit of {c.lv(limit['limit'])} is "
+                f"{c.lv(limit['margin'])}{share}"
             )
     side = _reference_side(c)
     if side is not None:
@@ -142,14 +143,13 @@ def status(summary: dict[str, Any], scenario: Scenario) -> Status:
     o = base_outcome(summary)
     tol = get(summary, "uncertainty", "tolerance")
     tol = tol if finite(tol) else DEFAULT_TOLERANCE
-    if o is not None and finite(o.get("collapse_risk")):
-        if not (c.lower and not o.get("collapsed") and not o.get("lever_limit")):
-            what = "flip" if c.lower else "collapse"
-            text = (
-                f"the {what} risk is {wording.percent(o['collapse_risk'], given='fraction')} "
-                f"against a tolerance of {wording.percent(tol, given='fraction')}"
-            )
-            (near if o["collapse_risk"] > tol else clear).append(text)
+    if o is not None and risk_applies(c, o):
+        what = "flip" if c.lower else "collapse"
+        text = (
+            f"the {what} risk is {wording.percent(o['collapse_risk'], given='fraction')} "
+            f"against a tolerance of {wording.percent(tol, given='fraction')}"
+        )
+        (near if o["collapse_risk"] > tol else clear).append(text)
     if not (past or near or clear) and c.lever is not None and limit is None:
         notes = get(summary, "limits", "notes") or []
         if any("persists over the whole range" in n for n in notes):

@@ -10,6 +10,7 @@ figure only when that figure is drawn for this summary (see
 from __future__ import annotations
 
 import math
+import re
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -75,17 +76,14 @@ class Context:
         units.setdefault("lever", _parameter_unit(scenario, lever))
         units.setdefault("yield", f"{units['state']}/{units['time']}")
         better = get(summary, "state", "better") or scenario.state.better
-        label = lever or ""
-        if lever is not None:
-            named = _parameter_label(scenario, lever)
-            label = f"{named} ({lever})" if named and named != lever else lever
+        label = plain_name(_parameter_label(scenario, lever)) or lever or ""
         return cls(
             summary=summary,
             scenario=scenario,
             lower=better == LOWER,
             lever=lever,
             lever_label=label,
-            state=scenario.state.name or get(summary, "state", "symbol") or "state",
+            state=plain_name(scenario.state.name) or get(summary, "state", "symbol") or "state",
             units=units,
         )
 
@@ -173,6 +171,31 @@ class Context:
         ranged = [p.name for p in self.scenario.parameters if p.range is not None]
         order = [lever] + [p for p in ranged if p != lever and p in continued]
         return bifurcation_names(order)[0]
+
+
+def plain_name(name: str) -> str:
+    """A name for running text: a bracketed aside is dropped ("herd size (all ages)" ->
+    "herd size"), since the sentence adds brackets of its own."""
+    return re.sub(r"\s*\([^)]*\)", "", name or "").strip()
+
+
+def risk_applies(c: Context, outcome: dict[str, Any] | None) -> bool:
+    """Whether a collapse (flip) risk means anything here: some sample collapses or has a
+    positive lever limit, or the scenario declares a collapse level for a lever it sets."""
+    if outcome is None or not finite(outcome.get("collapse_risk")):
+        return False
+    if outcome.get("collapsed"):
+        return True
+    q = outcome.get("lever_limit") or {}
+    if finite(q.get("p95")) and q["p95"] > 0:
+        return True
+    declared = c.scenario.state.collapse_level is not None
+    return not c.lower and declared and outcome.get("lever_value") is not None
+
+
+def parameter_words(c: Context, name: str) -> str:
+    """A parameter as words for running text: its label, else its symbol."""
+    return plain_name(_parameter_label(c.scenario, name)) or name
 
 
 def base_outcome(summary: dict[str, Any]) -> dict[str, Any] | None:

@@ -18,6 +18,8 @@ from sitegen.pages.sentences_context import (
     base_outcome,
     finite,
     get,
+    parameter_words,
+    risk_applies,
     sentence,
 )
 
@@ -32,7 +34,7 @@ def current_setting(c: Context) -> list[Sentence]:
     setting = ""
     value = get(c.summary, "limits", "lever_value")
     if c.lever is not None and finite(value):
-        setting = f"With {c.lever_label} at today's {c.lv(value)}, "
+        setting = f"With the {c.lever_label} at today's {c.lv(value)}, "
     start = run["start"]
     lead = (setting or "") + f"the {c.state}, now {c.s(start)},"
     lead = lead[0].upper() + lead[1:]
@@ -42,8 +44,9 @@ def current_setting(c: Context) -> list[Sentence]:
     if fate == "settles" and finite(run.get("attractor")):
         near = events.get("within 1%")
         if finite(near) and near > 0:
+            close = "of that level" if run["attractor"] != 0 else "of the range studied from zero"
             text = (
-                f"{lead} settles at {c.s(run['attractor'])}; it is within 1% of that level "
+                f"{lead} settles at {c.s(run['attractor'])}; it is within 1% {close} "
                 f"after about {c.t(near)}."
             )
             return [sentence("current-setting", text, figure, value, start, run["attractor"], near)]
@@ -66,14 +69,14 @@ def largest_setting(c: Context) -> list[Sentence]:
         return []
     largest = limit.get("direction") != "smallest"
     word = "largest" if largest else "smallest"
-    kept = "a low stable" if c.lower else "a stable"
+    kept = f"the {c.state} at its low stable level" if c.lower else f"a stable {c.state}"
     end = (
         "where the stable state meets zero"
         if limit.get("kind") == "transcritical"
         else "a tipping point where the stable state vanishes"
     )
     first = (
-        f"The {word} setting of {c.lever_label} that keeps {kept} {c.state} is "
+        f"The {word} setting of the {c.lever_label} that keeps {kept} is "
         f"{c.lv(limit['limit'])} ({end})."
     )
     margin = limit.get("margin")
@@ -84,7 +87,10 @@ def largest_setting(c: Context) -> list[Sentence]:
     share = f" ({wording.percent(abs(pct), given='percent')} of the limit)" if finite(pct) else ""
     if margin > 0:
         side = "below" if largest else "above"
-        second = f"Today's {c.lv(limit['current'])} is {c.lv(margin)}{share} {side} it, on the safe side."
+        second = (
+            f"Today's {c.lv(limit['current'])} is {c.lv(margin)}{share} {side} it, "
+            "on the safe side."
+        )
     elif margin == 0:
         second = f"Today's {c.lv(limit['current'])} sits exactly on it, with no margin."
     else:
@@ -100,13 +106,17 @@ def past_the_limit(c: Context) -> list[Sentence]:
         verb = "flips up to" if c.lower else "collapses to"
         lead = (
             f"Today's {c.lv(fall['lever_value'])} is {c.lv(fall['distance'])} past the tipping "
-            f"point at {c.lv(fall['fold_value'])}: the {c.state} {verb} {c.s(fall['collapse_level'])}"
+            f"point at {c.lv(fall['fold_value'])}: the {c.state} {verb} "
+            f"{c.s(fall['collapse_level'])}"
         )
         done, ghost = fall.get("collapse_time"), fall.get("ghost_time")
         if finite(done):
             text = f"{lead} in about {c.t(done)}"
             if finite(ghost) and wording.number(ghost) != wording.number(done):
-                text += f" (the quick estimate from the slow passage near the tipping point gives {c.t(ghost)})"
+                text += (
+                    " (the quick estimate from the slow passage near the tipping point gives "
+                    f"{c.t(ghost)})"
+                )
             values = (fall["lever_value"], fall["distance"], fall["fold_value"])
             return [
                 sentence(
@@ -126,9 +136,16 @@ def past_the_limit(c: Context) -> list[Sentence]:
     h = get(c.summary, "dynamics", "hysteresis")
     if h and finite(h.get("fold_value")) and finite(h.get("collapsed_state")):
         verb = "flips up to" if c.lower else "falls to"
+        beyond = (
+            "Below"
+            if get(c.summary, "limits", "lever_limit", "direction") == "smallest"
+            else "Above"
+        )
+        level = get(c.summary, "dynamics", "trajectory", "collapse_level")
+        named = " (the collapse level)" if not c.lower and level == h["collapsed_state"] else ""
         text = (
-            f"Past {c.lv(h['fold_value'])} the {c.state} has no stable level near "
-            f"{c.s(h['fold_state'])} any more and {verb} {c.s(h['collapsed_state'])}."
+            f"{beyond} {c.lv(h['fold_value'])} the {c.state} has no stable level left near "
+            f"{c.s(h['fold_state'])} and {verb} {c.s(h['collapsed_state'])}{named}."
         )
         values = (h["fold_value"], h.get("fold_state"), h["collapsed_state"])
         return [sentence("past-the-limit", text, c.figure("bifurcation"), *values)]
@@ -140,24 +157,22 @@ def recovery(c: Context) -> list[Sentence]:
     h = get(c.summary, "dynamics", "hysteresis")
     if not h or not finite(h.get("fold_value")):
         return []
-    lost = "Once the low state is lost" if c.lower else f"Once the {c.state} is lost"
+    fold = h["fold_value"]
+    lost = "the low state" if c.lower else f"the {c.state}"
+    first = f"Once the {c.lever_label} has passed {c.lv(fold)} and {lost} is lost"
     figure = c.figure("bifurcation")
     if h.get("irreversible") or not finite(h.get("return_value")):
         text = (
-            f"{lost} past {c.lv(h['fold_value'])}, it cannot be recovered by {c.lever_label} "
-            "alone: no setting inside the range studied brings it back."
+            f"{first}, it cannot be recovered by the {c.lever_label} alone: no setting inside "
+            "the range studied brings it back."
         )
-        return [sentence("recovery", text, figure, h["fold_value"])]
-    back, fold = h["return_value"], h["fold_value"]
-    way = "down" if back < fold else "up"
+        return [sentence("recovery", text, figure, fold)]
+    back = h["return_value"]
+    way, side = ("down", "below") if back < fold else ("up", "above")
     distance = h.get("distance") if finite(h.get("distance")) else abs(fold - back)
     text = (
-        f"{lost} past {c.lv(fold)}, it comes back only when {c.lever_label} is brought "
-        f"{way} to {c.lv(back)}, {c.lv(distance)} beyond the tipping point: turning back "
-        "just below the limit is not enough."
-        if way == "down"
-        else f"{lost} past {c.lv(fold)}, it comes back only when {c.lever_label} is brought "
-        f"{way} to {c.lv(back)}, {c.lv(distance)} beyond the tipping point."
+        f"{first}, it comes back only when the {c.lever_label} is brought {way} to {c.lv(back)}, "
+        f"{c.lv(distance)} {side} the tipping point: just undoing the last step is not enough."
     )
     return [sentence("recovery", text, figure, fold, back, distance)]
 
@@ -170,7 +185,7 @@ def msy(c: Context) -> list[Sentence]:
     figure = c.figure("yield-curve")
     if not y.get("at_fold") and c.at_range_end(y.get("lever_at_msy")):
         text = (
-            f"The sustainable yield still grows at the end of the range of {c.lever_label} "
+            f"The sustainable yield still grows at the end of the range of the {c.lever_label} "
             f"studied, {c.lv(y['lever_at_msy'])}, where it is {c.y(y['msy'])}: the model "
             "shows no maximum sustainable yield inside that range."
         )
@@ -255,15 +270,18 @@ def certainty(c: Context) -> list[Sentence]:
     """How sure: the collapse (flip) risk under today's lever, the safe lever, quantiles."""
     o = base_outcome(c.summary)
     u = get(c.summary, "uncertainty") or {}
-    if o is None or not finite(o.get("collapse_risk")) or not finite(o.get("samples")):
-        return []
-    if c.lower and not o.get("collapsed") and not o.get("lever_limit"):
-        return []  # no sample has a high state to flip to: nothing to be unsure about
-    names = ", ".join(p.get("name", "") for p in u.get("parameters") or [])
-    spread = f" in {names}" if names else ""
+    if not risk_applies(c, o) or o is None or not finite(o.get("samples")):
+        return []  # e.g. no sample has a high state to flip to: no risk to state
+    names = [parameter_words(c, p.get("name", "")) for p in u.get("parameters") or []]
+    listed = ", ".join(names[:-1]) + " and " + names[-1] if len(names) > 1 else "".join(names)
+    spread = f" in the {listed}" if listed else ""
     risk, samples, tol = o["collapse_risk"], o["samples"], u.get("tolerance")
     what = "a flip to the high state" if c.lower else "collapse"
-    under = f"under today's {c.lever_label}" if o.get("lever_value") is not None else "today"
+    under = (
+        f"under today's {c.lever_label}"
+        if o.get("lever_value") is not None
+        else "under today's settings"
+    )
     figure = c.figure("risk")
     if o.get("collapsed"):
         text = (
@@ -287,13 +305,14 @@ def certainty(c: Context) -> list[Sentence]:
         side = "at most" if o.get("limit_side") != "smallest" else "at least"
         text = (
             f"To keep that risk at {wording.percent(tol, given='fraction')} or less, "
-            f"{c.lever_label} must be {side} {c.lv(safe)}."
+            f"the {c.lever_label} must be {side} {c.lv(safe)}."
         )
         out.append(sentence("safe-setting", text, figure, tol * 100, safe))
     q = o.get("lever_limit")
-    if q and all(finite(q.get(k)) for k in ("p05", "p50", "p95")) and c.lever is not None:
+    spread_ok = q and all(finite(q.get(k)) for k in ("p05", "p50", "p95"))
+    if spread_ok and q["p05"] != q["p95"] and c.lever is not None:
         text = (
-            f"The limit of {c.lever_label} itself is uncertain: 90% of the samples put it "
+            f"The tipping point itself is uncertain: 90% of the samples put it "
             f"between {c.lv(q['p05'])} and {c.lv(q['p95'])} (median {c.lv(q['p50'])})."
         )
         out.append(sentence("limit-spread", text, figure, q["p05"], q["p95"], q["p50"]))

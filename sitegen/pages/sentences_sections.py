@@ -12,7 +12,15 @@ from __future__ import annotations
 from typing import Any
 
 from sitegen.pages import wording
-from sitegen.pages.sentences_context import Context, Sentence, base_outcome, finite, get, sentence
+from sitegen.pages.sentences_context import (
+    Context,
+    Sentence,
+    base_outcome,
+    finite,
+    get,
+    parameter_words,
+    sentence,
+)
 
 SECTIONS = ("equilibria", "dynamics", "policies", "uncertainty", "sensitivity", "economics")
 
@@ -25,49 +33,48 @@ def _stable(c: Context) -> list[float]:
     ]
 
 
-def _milestone_items(data: Any) -> list[dict[str, Any]]:
-    """Milestones as a list of dicts, whether the stage gives a list or a dict of parts."""
+def _milestone_set(data: Any) -> dict[str, Any] | None:
+    """The base model's milestones: the stage gives one set, or one per model (by name)."""
     if isinstance(data, list):
-        return [m for m in data if isinstance(m, dict)]
-    if isinstance(data, dict):
-        items = []
-        for key, value in data.items():
-            if isinstance(value, dict):
-                items.append({"kind": key, **value})
-            elif isinstance(value, list):
-                items.extend({"kind": key, **m} for m in value if isinstance(m, dict))
-            elif finite(value):
-                items.append({"kind": key, "time": value})
-        return items
-    return []
+        sets = [m for m in data if isinstance(m, dict)]
+        data = next((m for m in sets if m.get("name") == "base"), sets[0] if sets else None)
+    return data if isinstance(data, dict) else None
 
 
 def milestones(c: Context) -> list[Sentence]:
-    """Times until the state crosses its reference levels, the 50%/95% times, the half-life."""
-    items = _milestone_items(get(c.summary, "dynamics", "milestones"))
-    out: list[Sentence] = []
+    """Times until the state crosses its reference levels, and the 50% / 95% times."""
+    found = _milestone_set(get(c.summary, "dynamics", "milestones"))
+    if found is None:
+        return []
+    marks = [m for m in found.get("milestones") or [] if isinstance(m, dict)]
     figure = c.figure("trajectories")
-    for m in items:
-        time = m.get("time")
-        kind = str(m.get("kind") or m.get("name") or "")
-        level = m.get("level")
-        if not finite(time):
+    out: list[Sentence] = []
+    shares = {str(m.get("kind")): m for m in marks if str(m.get("kind", "")).endswith("way")}
+    half, most = shares.get("50% of the way"), shares.get("95% of the way")
+    start, rest = found.get("start"), found.get("attractor")
+    if half and finite(half.get("time")) and finite(start) and finite(rest):
+        text = (
+            f"Half of the way from today's {c.s(start)} to the resting {c.s(rest)} takes "
+            f"{c.t(half['time'])}"
+        )
+        values: list[float | None] = [start, rest, half["time"]]
+        if most and finite(most.get("time")):
+            text += f"; 95% of the way takes {c.t(most['time'])}"
+            values.append(most["time"])
+        out.append(sentence("milestone", text + ".", figure, *values))
+    for m in marks:
+        kind, level, time = str(m.get("kind", "")), m.get("level"), m.get("time")
+        if kind.endswith("way") or not finite(level):
             continue
-        if "half" in kind and "life" in kind:
-            text = f"The distance to the resting level halves every {c.t(time)} (half-life)."
-            out.append(sentence("milestone", text, figure, time))
-        elif finite(m.get("fraction")) or "50" in kind or "95" in kind:
-            share = m.get("fraction")
-            share = share if finite(share) else (0.5 if "50" in kind else 0.95)
-            text = (
-                f"The {c.state} covers {wording.percent(share, given='fraction')} of the way "
-                f"to its resting level in {c.t(time)}."
-            )
-            out.append(sentence("milestone", text, figure, share * 100, time))
-        elif finite(level):
-            name = m.get("reference") or m.get("name") or kind or "reference"
-            text = f"The {c.state} reaches the {name} level of {c.s(level)} after {c.t(time)}."
+        if finite(time):
+            text = f"The {c.state} reaches its {kind} level of {c.s(level)} after {c.t(time)}."
             out.append(sentence("milestone", text, figure, level, time))
+        elif m.get("settles") in ("above", "below") and finite(rest):
+            text = (
+                f"The {c.state} never reaches its {kind} level of {c.s(level)}: it comes to "
+                f"rest {m['settles']} it, at {c.s(rest)}."
+            )
+            out.append(sentence("milestone", text, figure, level, rest))
     return out
 
 
@@ -99,11 +106,13 @@ def _equilibria(c: Context) -> list[Sentence]:
     figure = c.figure("phase-line")
     if not stable:
         return []
-    levels = ", ".join(c.s(v) for v in stable)
-    text = (
-        f"The {c.state} can rest at {len(stable)} stable level{'s' if len(stable) > 1 else ''} "
-        f"at today's settings: {levels}."
-    )
+    if len(stable) == 1:
+        text = f"At today's settings the {c.state} has one stable resting level, {c.s(stable[0])}."
+    else:
+        levels = ", ".join(c.s(v) for v in stable[:-1]) + " and " + c.s(stable[-1])
+        text = (
+            f"At today's settings the {c.state} has {len(stable)} stable resting levels: {levels}."
+        )
     out = [sentence("equilibria", text, figure, *stable)]
     thresholds = [t for t in c.summary.get("thresholds") or [] if finite(t)]
     if thresholds:
@@ -125,19 +134,22 @@ def _dynamics(c: Context) -> list[Sentence]:
     r = get(c.summary, "dynamics", "recovery")
     if not r or not finite(r.get("shock")) or not finite(r.get("stable_state")):
         return []
-    lost = wording.percent(r["shock"], given="fraction")
-    what = "adding" if c.lower else "losing"
-    lead = f"After {what} {lost} of its resting level of {c.s(r['stable_state'])}, the {c.state}"
+    if not finite(r.get("start")):
+        return []
+    lead = (
+        f"After a shock that moves it from its resting level of {c.s(r['stable_state'])} to "
+        f"{c.s(r['start'])}, the {c.state}"
+    )
     figure = c.figure("trajectories")
     if finite(r.get("time_to_10")):
         text = f"{lead} is back within 10% of it in {c.t(r['time_to_10'])}"
-        values = [r["shock"] * 100, r["stable_state"], r["time_to_10"]]
+        values = [r["stable_state"], r["start"], r["time_to_10"]]
         if finite(r.get("time_to_1")):
             text += f" and within 1% in {c.t(r['time_to_1'])}"
             values.append(r["time_to_1"])
         return [sentence("recovery-time", text + ".", figure, *values)]
     text = f"{lead} does not come back: the shock pushes it past a threshold."
-    return [sentence("recovery-time", text, None, r["shock"] * 100, r["stable_state"])]
+    return [sentence("recovery-time", text, None, r["stable_state"], r["start"])]
 
 
 def _policies(c: Context) -> list[Sentence]:
@@ -188,12 +200,17 @@ def _sensitivity(c: Context) -> list[Sentence]:
     if not ranked:
         return []
     top = max(ranked, key=lambda s: abs(s["elasticity"]))
-    what = f"the limit of {c.lever_label}" if get(base, "lever_limit") else f"the resting {c.state}"
-    e = top["elasticity"]
+    what = (
+        f"the limit of the {c.lever_label}"
+        if get(base, "lever_limit")
+        else f"the resting {c.state}"
+    )
+    e, name = top["elasticity"], str(top.get("parameter"))
     way = "rises" if e > 0 else "falls"
     text = (
-        f"{what[0].upper() + what[1:]} depends most on {top.get('parameter')}: a 1% higher "
-        f"{top.get('parameter')} and it {way} by {wording.percent(abs(e), given='percent')}."
+        f"{what[0].upper() + what[1:]} depends most on the {parameter_words(c, name)} ({name}): "
+        f"a 1% rise in it {way.replace('rises', 'raises').replace('falls', 'lowers')} it by "
+        f"{wording.percent(abs(e), given='percent')}."
     )
     return [sentence("sensitivity", text, None, abs(e))]
 
