@@ -91,6 +91,9 @@ def test_units() -> None:
     assert wording.quantity(-4.5, "°C") == MINUS + "4.5 °C"
     assert wording.quantity(20, "%") == "20%"
     assert wording.quantity(3.0, "m^-1") == "3 m⁻¹"
+    assert wording.quantity(1850, "animal") == "1,850 animals"
+    assert wording.quantity(1, "animal") == "1 animal"
+    assert wording.quantity(10, "pair/yr") == "10 pairs/yr"
 
 
 def test_percent_says_what_it_is_given() -> None:

@@ -67,7 +67,9 @@ STATUS_RULES: tuple[tuple[str, str], ...] = (
         CLEAR,
         f"a margin of at least {NEAR_PERCENT:g}% to the lever limit (or no limit inside the "
         "range studied), the state on the right side of its limit reference level, and any "
-        "risk of collapse or flip within the tolerance",
+        "risk of collapse or flip within the tolerance; without a limit level, a state "
+        "that comes to rest on the good side of its target level (the wrong side reads "
+        "near the limit)",
     ),
     (
         NOT_ASSESSED,
@@ -140,6 +142,13 @@ def status(summary: dict[str, Any], scenario: Scenario) -> Status:
     side = _reference_side(c)
     if side is not None:
         (past if side[0] else clear).append(side[1])
+    target = c.scenario.reference.target
+    rest = get(summary, "dynamics", "trajectory", "attractor")
+    if side is None and finite(target) and finite(rest):
+        good = rest <= target if c.lower else rest >= target
+        verb = "meeting" if good else "missing"
+        text = f"the {c.state} comes to rest at {c.s(rest)}, {verb} its target of {c.s(target)}"
+        (clear if good else near).append(text)
     o = base_outcome(summary)
     tol = get(summary, "uncertainty", "tolerance")
     tol = tol if finite(tol) else DEFAULT_TOLERANCE

@@ -30,6 +30,8 @@ SMALL = Decimal("0.0001")  # below this (after rounding) the power-of-ten form i
 LARGE = Decimal("1e9")  # from this up as well
 _SUPERSCRIPT = str.maketrans("0123456789-", "⁰¹²³⁴⁵⁶⁷⁸⁹⁻")
 DIMENSIONLESS = ("", "1", "-")
+# Units that are counted things read in the plural ("1,850 animals", "10 pairs/yr").
+COUNT_NOUNS = {"animal": "animals", "pair": "pairs", "bird": "birds", "tree": "trees"}
 
 # Time units as words: (singular, plural). Keys are the spellings scenarios use.
 TIME_WORDS: dict[str, tuple[str, str]] = {
@@ -126,6 +128,9 @@ def quantity(value: float | None, unit: str, sig: int = 3) -> str:
     words = unit_text(unit)
     if not words:
         return text
+    head, slash, rest = words.partition("/")
+    if head in COUNT_NOUNS and rounded(float(value), sig) != 1:  # type: ignore[arg-type]
+        words = COUNT_NOUNS[head] + slash + rest
     if words == "%":
         return text + "%"
     return f"{text} {words}"
