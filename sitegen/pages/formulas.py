@@ -14,7 +14,8 @@ import sympy
 from markupsafe import Markup
 from sympy.printing.mathml import mathml
 
-from sitegen.scenario.formula import ParsedFormula, display_expression
+from sitegen.scenario.formula import ParsedFormula
+from sitegen.scenario.formula_display import display_expression
 
 MINUS = "\u2212"
 

@@ -446,14 +446,3 @@ def to_formula(expr: sympy.Expr) -> str:
     """The formula text for ``expr`` (``**`` for powers, lowercase functions)."""
     return FormulaPrinter({"order": "none"}).doprint(expr)
 
-
-def display_expression(parsed: ParsedFormula, symbols: Mapping[str, sympy.Symbol]) -> sympy.Expr:
-    """The formula as the user wrote it (term order and grouping kept), for printing only.
-
-    SymPy sorts and merges terms when it builds an expression; rebuilding the
-    checked tree with evaluation off keeps ``r*B*(1 - B/K) - H`` in that shape.
-    Never compute with the result: use ``parsed.expr``.
-    """
-    builder = _Builder(parsed.text, parsed.column_map, symbols, parsed.python_text)
-    with sympy.evaluate(False):
-        return builder.build(parsed.tree.body)
