@@ -5,9 +5,14 @@ bifurcation records to the dynamics functions, so nothing is computed twice
 where those functions accept earlier results. The parts, and when each is None:
 
 - ``trajectory``: the run from today's state (None without ``[state] current``);
+- ``milestones``: from today's state, for the base model and every policy, the
+  crossings of the ``[reference]`` levels and the times to 50% and 95% of the
+  way to the attractor (:mod:`sitegen.dynamics.milestones`; None without
+  ``[state] current``);
 - ``collapse``: the fall once today's lever lies past a fold (None otherwise);
 - ``recovery``: the return after the scenario's ``[model] shock`` (None without a
-  stable positive state);
+  stable positive state, or when today's state is already farther from it than
+  the shock would move it: see :func:`sitegen.dynamics.recovery.shock_note`);
 - ``hysteresis``: where the lever must go back to once the state is lost at the
   fold that ends today's stable branch (None without such a fold);
 - ``lever_limit``, ``sustainable_yield``, ``stock_status``, ``economics``: see
@@ -44,19 +49,21 @@ from sitegen.dynamics.limits import (
     stock_status,
     sustainable_yield,
 )
+from sitegen.dynamics.milestones import milestone_table, reference_levels
 from sitegen.dynamics.policies import check_folds, compare_policies, has_kinks, true_roots
 from sitegen.dynamics.records import (
     Collapse,
     EconomicYield,
     Hysteresis,
     LeverLimit,
+    Milestones,
     PolicyTable,
     Recovery,
     StockStatus,
     SustainableYield,
     Trajectory,
 )
-from sitegen.dynamics.recovery import hysteresis, recovery_after_shock
+from sitegen.dynamics.recovery import hysteresis, recovery_after_shock, shock_note
 from sitegen.dynamics.sensitivity import SensitivityReport, run_sensitivity
 from sitegen.dynamics.trajectories import integrate
 from sitegen.dynamics.uncertainty import UncertaintyReport, run_uncertainty
@@ -107,6 +114,7 @@ class Assessment:
     notes: dict[str, tuple[str, ...]] = field(default_factory=dict)
     warnings: dict[str, tuple[str, ...]] = field(default_factory=dict)
     better: str = HIGHER
+    milestones: tuple[Milestones, ...] | None = None
 
 
 class _Log:
@@ -202,6 +210,17 @@ def assess(
             "the trajectory from today's state",
             lambda: integrate(model, start, equilibria, collapse_level),
         )
+    milestones = None
+    if model.current_state is None:
+        log.note("dynamics", "no current state in [state]: no milestones")
+    else:
+        milestones = log.run(
+            "dynamics",
+            "the milestones from today's state",
+            lambda: milestone_table(scenario, model, equilibria),
+        )
+        if not reference_levels(scenario):
+            log.note("dynamics", "no [reference] levels: milestones are 50% and 95% of the way")
     collapse = None
     if lever is None:
         log.note("dynamics", f"no lever in [model]: no {word} past a fold and no hysteresis")
@@ -219,13 +238,18 @@ def assess(
                 f"today's {lever} is not past a fold that removes the {kept} state: "
                 f"no {word} to time",
             )
-    recovery = log.run(
-        "dynamics",
-        "the recovery after the shock",
-        lambda: recovery_after_shock(model, scenario.model.shock, equilibria, collapse_level),
-    )
-    if recovery is None:
-        log.note("dynamics", "no stable positive state today: no recovery after a shock")
+    recovery = None
+    not_applicable = shock_note(model, scenario.model.shock, equilibria)
+    if not_applicable is not None:
+        log.note("dynamics", not_applicable)
+    else:
+        recovery = log.run(
+            "dynamics",
+            "the recovery after the shock",
+            lambda: recovery_after_shock(model, scenario.model.shock, equilibria, collapse_level),
+        )
+        if recovery is None:
+            log.note("dynamics", "no stable positive state today: no recovery after a shock")
 
     run = None
     if lever is None:
@@ -346,4 +370,5 @@ def assess(
         notes=log.frozen(log.notes),
         warnings=log.frozen(log.warnings),
         better=model.better,
+        milestones=milestones,
     )

@@ -85,7 +85,8 @@ class Collapse:
 class Recovery:
     """Return to the stable state after a shock removing ``shock`` of it.
 
-    ``start`` = (1 - shock) * ``stable_state``; ``time_to_10`` and ``time_to_1``
+    ``start`` = (1 - shock) * ``stable_state``, or (1 + shock) * ``stable_state``
+    (a rise) when better = "lower"; ``time_to_10`` and ``time_to_1``
     are the times to come within 10% and 1% of it (None if it collapses instead);
     ``return_time`` is 1/|f'(x*)| (None where f'(x*) = 0).
     """
@@ -232,3 +233,61 @@ class PolicyTable:
 
     rows: tuple[PolicyRow, ...]
     best: dict[str, str | None]
+
+
+# Kinds of milestone besides the declared [reference] levels (limit, target, trigger).
+HALF_WAY, MOST_OF_THE_WAY = "50% of the way", "95% of the way"
+# Directions of the run from today's state.
+RISING, FALLING, AT_REST = "rising", "falling", "at rest"
+
+
+@dataclass(frozen=True)
+class Milestone:
+    """The first time ``time`` (time units from today) the state crosses ``level``.
+
+    ``kind`` is a declared reference level ("limit", "target", "trigger") or a
+    share of the way from today's state to its attractor (``HALF_WAY``,
+    ``MOST_OF_THE_WAY``; for a linear model the 50% time is the half-life
+    ln 2 / k). ``time`` is None when the run does not cross the level: it lies
+    behind today's state, or beyond the state the run settles at (``note`` says
+    which). ``settles`` says where the run ends relative to the level: "above",
+    "below" or "at" (None when the run leaves the region or collapses).
+    """
+
+    kind: str
+    level: float
+    time: float | None
+    settles: str | None
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class Milestones:
+    """Milestones of one model (the base model or one policy) from today's state.
+
+    ``start`` and ``attractor`` are in state units (``attractor`` None when the
+    run leaves the region or collapses); ``direction`` is rising, falling or at
+    rest; ``end_time`` is where the integration stopped (time units).
+    """
+
+    name: str
+    start: float
+    attractor: float | None
+    direction: str
+    milestones: tuple[Milestone, ...]
+    end_time: float
+    note: str = ""
+
+    def time_of(self, kind: str) -> float | None:
+        """Time of the milestone of this kind, or None (absent or not crossed)."""
+        return next((m.time for m in self.milestones if m.kind == kind), None)
+
+    @property
+    def half_time(self) -> float | None:
+        """Time to cover half the way to the attractor (the half-life of a linear model)."""
+        return self.time_of(HALF_WAY)
+
+    @property
+    def time_95(self) -> float | None:
+        """Time to cover 95% of the way to the attractor."""
+        return self.time_of(MOST_OF_THE_WAY)

@@ -4,7 +4,18 @@ Recovery: the stable state x* loses the fraction ``shock`` of itself (default
 0.5, the scenario's ``[model] shock``); the run from (1 - shock) x* gives the
 time to come back within 10% (and 1%) of x*, in the model's time unit, beside
 the linear return time 1/|f'(x*)|. A start below a threshold collapses
-instead, and the record says so.
+instead, and the record says so. With ``[state] better = "lower"`` (a
+pollutant, a nutrient, a pest) the harmful disturbance is a pulse upward (a
+spill, a storm's load, an influx), so the shock is a rise: the run starts
+from (1 + shock) x*, capped at the region's upper end.
+
+:func:`shock_note` says when the test does not apply at all: when today's
+state is already farther from its stable state than the shock would move it
+(a cold room warming towards the outside air, a body speeding up to its
+terminal velocity). Today's state is then itself the larger disturbance, the
+run from it answers the recovery question directly (see
+:mod:`sitegen.dynamics.milestones`), and a fractional loss of a temperature or
+a speed has no meaning of its own.
 
 Hysteresis: past a fold the state goes to another attractor (the "collapsed
 state": another stable state, or the collapse level when none lies that way).
@@ -68,8 +79,11 @@ def recovery_after_shock(
     stable = current_stable_state(model, equilibria)
     if stable is None:
         return None
-    low = model.region[0]
-    start = max(low, (1.0 - shock) * stable.value)
+    low, high = model.region
+    if model.better == LOWER:
+        start = min(high, (1.0 + shock) * stable.value)
+    else:
+        start = max(low, (1.0 - shock) * stable.value)
     trajectory = integrate(model, start, equilibria, collapse_level)
     reached = trajectory.attractor == stable.value
     note = (
@@ -86,6 +100,27 @@ def recovery_after_shock(
         stable.return_time,
         trajectory.fate,
         note,
+    )
+
+
+def shock_note(model: Model, shock: float, equilibria: Sequence[Equilibrium]) -> str | None:
+    """Why the shock test does not apply (see the module docstring), or None when it does."""
+    if model.current_state is None:
+        return None
+    stable = current_stable_state(model, equilibria)
+    if stable is None:
+        return None
+    today = float(model.current_state)
+    if attractor_of(model, today, equilibria) != stable.value:
+        return None
+    if abs(today - stable.value) <= shock * abs(stable.value):
+        return None
+    unit = model.state_unit
+    return (
+        f"today's state {today:.6g} {unit} is farther from its stable state "
+        f"{stable.value:.6g} {unit} than "
+        f"a shock of {100 * shock:.3g}% would move it: the run from today is the recovery, "
+        "timed under the milestones, and no separate shock test is made"
     )
 
 

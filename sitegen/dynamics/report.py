@@ -2,11 +2,13 @@
 
 The JSON extends stage 3's :func:`sitegen.analysis.summary.summary` (its keys
 are kept as they are) with ``units``, ``dynamics``, ``limits``, ``policies``,
-``uncertainty``, ``sensitivity`` and ``economics``. Each new section always has
-``notes`` (why a part does not apply) and ``warnings`` (a part that failed);
-a part that does not apply is null. Numbers are full precision; NaN and
-infinities become null, since JSON has neither. The text report gives 4
-significant figures with the unit beside every number.
+``uncertainty``, ``sensitivity`` and ``economics``; ``dynamics`` holds
+``milestones``, one entry per model (base first, then each policy) with its
+level crossings, ``half_time`` and ``time_95``, or null without a current state.
+Each new section always has ``notes`` (why a part does not apply) and
+``warnings`` (a part that failed); a part that does not apply is null.
+Numbers are full precision; NaN and infinities become null, since JSON has
+neither. The text report gives 4 significant figures with the unit beside every number.
 """
 
 from __future__ import annotations
@@ -20,7 +22,7 @@ import numpy as np
 
 from sitegen.analysis.summary import summary, to_text
 from sitegen.dynamics.assess import Assessment
-from sitegen.dynamics.records import PolicyRow, Trajectory
+from sitegen.dynamics.records import Milestones, PolicyRow, Trajectory
 from sitegen.dynamics.report_text import (
     dynamics_lines,
     economics_lines,
@@ -64,6 +66,15 @@ def _trajectory(t: Trajectory | None) -> dict[str, Any] | None:
         "end_time": _safe(float(t.times[-1])),
         "note": t.note,
     }
+
+
+def _milestones(rows: tuple[Milestones, ...] | None) -> list[dict[str, Any]] | None:
+    if rows is None:
+        return None
+    return [
+        {**_safe(row), "half_time": _safe(row.half_time), "time_95": _safe(row.time_95)}
+        for row in rows
+    ]
 
 
 def _row(row: PolicyRow) -> dict[str, Any]:
@@ -130,6 +141,7 @@ def assessment_summary(a: Assessment) -> dict[str, Any]:
             "collapse": _safe(a.collapse),
             "recovery": _safe(a.recovery),
             "hysteresis": _safe(a.hysteresis),
+            "milestones": _milestones(a.milestones),
         },
     )
     data["limits"] = _section(

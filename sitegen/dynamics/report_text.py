@@ -14,7 +14,7 @@ from collections.abc import Sequence
 import numpy as np
 
 from sitegen.dynamics.assess import Assessment
-from sitegen.dynamics.records import PolicyRow
+from sitegen.dynamics.records import FALLING, Milestone, Milestones, PolicyRow
 from sitegen.dynamics.uncertainty import Quantiles, UncertaintyOutcome
 from sitegen.scenario.records import LOWER
 
@@ -97,18 +97,23 @@ def dynamics_lines(a: Assessment) -> list[str]:
             f"(bottleneck estimate pi/sqrt(ab) = {_n(c.ghost_time, u['time'])})"
         )
     r = a.recovery
-    if r is not None and r.time_to_10 is None:
-        lines.append(
-            f"  after losing {_n(100 * r.shock, '%')} of {_n(r.stable_state, u['state'])} (to "
-            f"{_n(r.start, u['state'])}): no return; {r.note or r.fate}"
+    shock = ""
+    if r is not None:
+        how = "a rise of" if lower else "losing"
+        shock = (
+            f"  after {how} {_n(100 * r.shock, '%')} of {_n(r.stable_state, u['state'])} (to "
+            f"{_n(r.start, u['state'])})"
         )
+    if r is not None and r.time_to_10 is None:
+        lines.append(f"{shock}: no return; {r.note or r.fate}")
     elif r is not None:
         lines.append(
-            f"  after losing {_n(100 * r.shock, '%')} of {_n(r.stable_state, u['state'])}: back "
+            f"{shock}: back "
             f"within 10% in {_time(r.time_to_10, u['time'])}, within 1% in "
             f"{_time(r.time_to_1, u['time'])} (return time 1/|f'| = "
             f"{_n(r.return_time, u['time'])})"
         )
+    lines.extend(milestone_lines(a))
     h = a.hysteresis
     if h is not None:
         if h.irreversible:
@@ -123,6 +128,39 @@ def dynamics_lines(a: Assessment) -> list[str]:
             + ("flips up " if lower else "falls ")
             + f"to {_n(h.collapsed_state, u['state'])}; {back}"
         )
+    return lines
+
+
+def _milestone_text(row: Milestones, m: Milestone, u: dict[str, str]) -> str:
+    """One milestone: its level and time, or why the run does not cross it."""
+    if m.kind in ("limit", "target", "trigger"):
+        label = f"{m.kind} {_n(m.level, u['state'])}"
+    else:
+        label = f"{m.kind} ({_n(m.level, u['state'])})"
+    if m.time is not None:
+        return f"{label} after {_n(m.time, u['time'])}"
+    sign = -1.0 if row.direction == FALLING else 1.0
+    if sign * (m.level - row.start) <= 0:
+        side = "above" if row.start > m.level else "below"
+        return f"{label} not crossed (already {side} it)"
+    if row.attractor is not None and m.settles is not None:
+        return f"{label} not crossed (settles {m.settles} it, at {_n(row.attractor, u['state'])})"
+    return f"{label} not crossed ({m.note})"
+
+
+def milestone_lines(a: Assessment) -> list[str]:
+    """How long until: the reference levels and 50% / 95% of the way, per model."""
+    if not a.milestones:
+        return []
+    u = a.units
+    lines = [f"  milestones from today's {_n(a.milestones[0].start, u['state'])}:"]
+    for row in a.milestones:
+        if row.attractor is not None:
+            where = f"{row.direction} to {_n(row.attractor, u['state'])}"
+        else:
+            where = f"{row.direction}, does not settle in the region"
+        parts = "; ".join(_milestone_text(row, m, u) for m in row.milestones)
+        lines.append(f"    {row.name} ({where}): {parts or row.note or 'no levels to cross'}")
     return lines
 
 
