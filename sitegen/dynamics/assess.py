@@ -115,6 +115,7 @@ class Assessment:
     warnings: dict[str, tuple[str, ...]] = field(default_factory=dict)
     better: str = HIGHER
     milestones: tuple[Milestones, ...] | None = None
+    shock_applies: bool = True  # False: today's state is farther out than the shock
 
 
 class _Log:
@@ -371,4 +372,5 @@ def assess(
         warnings=log.frozen(log.warnings),
         better=model.better,
         milestones=milestones,
+        shock_applies=not_applicable is None,
     )

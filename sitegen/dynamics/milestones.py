@@ -7,6 +7,10 @@ tends to, or out of the region. Along that run this module times:
 - the first crossing of each declared ``[reference]`` level (limit, target,
   trigger): the time a cold room passes its safe temperature, a soil meets its
   clean-up target, a falling body passes a safe landing speed;
+- the lever setting at which each reference level is itself an equilibrium
+  (the root of f(level; lever) = 0 in the lever's range): the sustainable
+  pumping rate that holds a water table at its limit, the largest inflow
+  concentration that keeps a reservoir at its standard;
 - the time to cover 50% and 95% of the way from today's state to the attractor
   x*, i.e. to reach x0 + 0.5 (x* - x0) and x0 + 0.95 (x* - x0). For a linear
   model dx/dt = -k (x - x*) these are the half-life ln 2 / k and ln 20 / k;
@@ -23,9 +27,11 @@ and a note, never with a guessed time.
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
+from dataclasses import replace
 
 import numpy as np
 from scipy.integrate import solve_ivp
+from scipy.optimize import brentq
 
 from sitegen.analysis.equilibria import find_equilibria
 from sitegen.analysis.records import Equilibrium
@@ -36,6 +42,7 @@ from sitegen.dynamics.records import (
     HALF_WAY,
     MOST_OF_THE_WAY,
     RISING,
+    LeverAtLevel,
     Milestone,
     Milestones,
 )
@@ -48,6 +55,7 @@ ATOL_RELATIVE = 1e-15  # of the region's size
 SAME = 1e-12  # of the region's size: a level this close to the attractor is "at" it
 FRACTIONS = ((HALF_WAY, 0.5), (MOST_OF_THE_WAY, 0.95))
 REFERENCE_KINDS = ("limit", "trigger", "target")
+LEVER_SCAN = 2049  # lever values scanned for sign changes of f(level; lever)
 
 EventFunction = Callable[[float, np.ndarray], float]
 
@@ -208,6 +216,38 @@ def milestones_of(
     return Milestones(model.name, start, attractor, direction, tuple(marks), end_time)
 
 
+def lever_settings(model: Model, levels: Sequence[tuple[str, float]]) -> tuple[LeverAtLevel, ...]:
+    """For each (kind, level): the lever setting in its range at which the level is an
+    equilibrium, nearest today's setting (scan for sign changes, then brentq)."""
+    lever = model.lever
+    if lever is None or lever not in model.ranges:
+        return ()
+    p_low, p_high = model.ranges[lever]
+    grid = np.linspace(p_low, p_high, LEVER_SCAN)
+    today = float(model.values[lever])
+    names = model.parameters
+    settings = []
+    for kind, level in levels:
+        arguments = [grid if n == lever else float(model.values[n]) for n in names]
+        with np.errstate(all="ignore"):
+            rates = np.asarray(model.numeric()(level, *arguments), dtype=float) + 0.0 * grid
+        roots = list(grid[rates == 0.0])
+        changes = np.nonzero(np.sign(rates[:-1]) * np.sign(rates[1:]) < 0)[0]
+
+        def rate_at(value: float, at: float = level) -> float:
+            return float(model.f(at, {lever: value}))
+
+        roots += [brentq(rate_at, grid[i], grid[i + 1], xtol=1e-14, rtol=1e-14) for i in changes]
+        if not roots:
+            note = f"no {lever} in [{p_low:g}, {p_high:g}] holds the state at this level"
+            settings.append(LeverAtLevel(kind, level, lever, None, None, note))
+            continue
+        value = float(min(roots, key=lambda root: abs(root - today)))
+        slope = float(np.asarray(model.numeric(1)(level, *model.args({lever: value}))))
+        settings.append(LeverAtLevel(kind, level, lever, value, slope < 0))
+    return tuple(settings)
+
+
 def _equilibria(model: Model) -> list[Equilibrium]:
     equilibria, _ = find_equilibria(model)
     if has_kinks(model):
@@ -227,7 +267,8 @@ def milestone_table(
     start = float(model.current_state)
     levels = reference_levels(scenario)
     collapse_level = scenario.state.collapse_level
-    rows = [milestones_of(model, start, levels, equilibria, collapse_level)]
+    base = milestones_of(model, start, levels, equilibria, collapse_level)
+    rows = [replace(base, lever_settings=lever_settings(model, levels))]
     for policy in scenario.policies:
         policy_model = build_model(scenario, policy)
         rows.append(

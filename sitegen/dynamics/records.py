@@ -262,12 +262,33 @@ class Milestone:
 
 
 @dataclass(frozen=True)
+class LeverAtLevel:
+    """The lever setting at which a reference ``level`` is itself an equilibrium.
+
+    ``lever_value`` (lever units) solves f(level; lever) = 0 inside the lever's
+    range, the setting nearest today's when there are several (None: no setting
+    in the range holds the state there); ``stable`` is True when the
+    equilibrium there is stable (f_x < 0). For an aquifer's limit level this is
+    the sustainable pumping rate; for a pollutant's limit, the largest load
+    that keeps it below the limit.
+    """
+
+    kind: str
+    level: float
+    lever: str
+    lever_value: float | None
+    stable: bool | None
+    note: str = ""
+
+
+@dataclass(frozen=True)
 class Milestones:
     """Milestones of one model (the base model or one policy) from today's state.
 
     ``start`` and ``attractor`` are in state units (``attractor`` None when the
     run leaves the region or collapses); ``direction`` is rising, falling or at
-    rest; ``end_time`` is where the integration stopped (time units).
+    rest; ``end_time`` is where the integration stopped (time units);
+    ``lever_settings`` hold each reference level (empty without a ranged lever).
     """
 
     name: str
@@ -277,6 +298,7 @@ class Milestones:
     milestones: tuple[Milestone, ...]
     end_time: float
     note: str = ""
+    lever_settings: tuple[LeverAtLevel, ...] = ()
 
     def time_of(self, kind: str) -> float | None:
         """Time of the milestone of this kind, or None (absent or not crossed)."""

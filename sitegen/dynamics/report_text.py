@@ -161,6 +161,16 @@ def milestone_lines(a: Assessment) -> list[str]:
             where = f"{row.direction}, does not settle in the region"
         parts = "; ".join(_milestone_text(row, m, u) for m in row.milestones)
         lines.append(f"    {row.name} ({where}): {parts or row.note or 'no levels to cross'}")
+    for setting in a.milestones[0].lever_settings:
+        where = f"{setting.kind} {_n(setting.level, u['state'])}"
+        if setting.lever_value is None:
+            lines.append(f"  {where}: {setting.note}")
+            continue
+        kind = "stable" if setting.stable else "unstable"
+        lines.append(
+            f"  {where} is the {kind} resting state at {setting.lever} = "
+            f"{_n(setting.lever_value, u['lever'])} (today {_n(a.lever_value, u['lever'])})"
+        )
     return lines
 
 
@@ -227,8 +237,8 @@ def policy_lines(a: Assessment) -> list[str]:
         figures.append((f"safe {lever} ({u['lever']})", [safe(r) for r in rows], None))
     grid = [["", *[r.name for r in rows]]]
     for label, values, key in figures:
-        if all(v is None for v in values):
-            continue  # a figure no policy has (no lever, no yield) is left out
+        if all(v is None for v in values) or (key == "recovery_time" and not a.shock_applies):
+            continue  # a figure no policy has (no lever, no yield, no shock test) is left out
         best = key[5:] if key and key.startswith("risk:") else table.best.get(key) if key else None
         marks = _marked(rows, values, best)
         cells = [_n(v) + ("*" if m else " ") for v, m in zip(values, marks, strict=True)]
