@@ -199,6 +199,7 @@ def render_dossier(d: DossierInput) -> str:
         section_sentences={k: _linked(v, anchors) for k, v in sections.items()},
         limits_table=parts.limits_table(summary),
         dynamics_table=parts.dynamics_table(summary),
+        milestone_table=parts.milestone_table(summary),
         policy_table=parts.policy_table(summary),
         uncertainty_table=parts.uncertainty_table(summary),
         sensitivity_table=parts.sensitivity_table(summary),

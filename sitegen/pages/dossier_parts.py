@@ -138,10 +138,44 @@ def dynamics_table(summary: Mapping[str, Any]) -> TableView | None:
     ]
     for event in t.get("events") or ():
         facts.append((f"Trajectory: {event['kind']}", event.get("time"), time))
-    for milestone in (d.get("milestones") or {}).get("items", ()) or ():
-        if isinstance(milestone, Mapping) and "label" in milestone:
-            facts.append((str(milestone["label"]), milestone.get("time"), time))
     return _facts("Dynamics", facts)
+
+
+def milestone_table(summary: Mapping[str, Any]) -> TableView | None:
+    """How long until the state crosses each level, one row per model (base and policies)."""
+    runs = summary["dynamics"].get("milestones") or []
+    if not runs:
+        return None
+    units = summary["units"]
+    kinds: list[tuple[str, float | None]] = []
+    for run in runs:
+        for m in run.get("milestones") or ():
+            key = (m["kind"], m["level"] if m["kind"] in ("limit", "target", "trigger") else None)
+            if key not in kinds:
+                kinds.append(key)
+    if not kinds:
+        return None
+    headers = ["Model", "Starts at", "Settles at"]
+    for kind, level in kinds:
+        headers.append(
+            f"Time to the {kind} level ({wording.quantity(level, units['state'])})"
+            if level is not None
+            else f"Time to {kind}"
+        )
+    rows = []
+    for run in runs:
+        found = {(m["kind"], m["level"] if m["kind"] in ("limit", "target", "trigger") else None):
+                 m.get("time") for m in run.get("milestones") or ()}  # fmt: skip
+        rows.append(
+            (
+                row_heading(str(run["name"])),
+                cell(run.get("start"), unit=units["state"]),
+                cell(run.get("attractor"), unit=units["state"]),
+                *(cell(found.get(key), unit=units["time"]) for key in kinds),
+            )
+        )
+    note = "A dash: the level is not reached from today's state under that model."
+    return TableView("How long until", tuple(headers), tuple(rows), (note,))
 
 
 POLICY_MEASURES = (

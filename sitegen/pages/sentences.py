@@ -61,7 +61,8 @@ STATUS_RULES: tuple[tuple[str, str], ...] = (
         f"not past the limit, but the margin to the lever limit is under {NEAR_PERCENT:g}% of "
         "the limit, or, allowing for the uncertainty in the model's parameters, the risk of "
         "collapse (or of a flip, for a pollutant or pest) under today's setting is above the "
-        "scenario's risk tolerance (5% unless the scenario states another)",
+        "scenario's risk tolerance (5% unless the scenario states another), or the state is "
+        "on the right side of its limit reference level today but is moving to cross it",
     ),
     (
         CLEAR,
@@ -108,6 +109,19 @@ def _reference_side(c: Context) -> tuple[bool, str, tuple[float, ...]] | None:
     return None
 
 
+def _limit_crossing(c: Context) -> tuple[float, float, float] | None:
+    """(start, limit level, time) when the base run from today crosses the limit level."""
+    runs = get(c.summary, "dynamics", "milestones")
+    runs = [r for r in runs if isinstance(r, dict)] if isinstance(runs, list) else []
+    base = next((r for r in runs if r.get("name") == "base"), None)
+    if base is None or not finite(base.get("start")):
+        return None
+    for m in base.get("milestones") or ():
+        if m.get("kind") == "limit" and finite(m.get("time")) and finite(m.get("level")):
+            return float(base["start"]), float(m["level"]), float(m["time"])
+    return None
+
+
 def status(summary: dict[str, Any], scenario: Scenario) -> Status:
     """The status word by :data:`STATUS_RULES`; ``reason`` states the deciding numbers."""
     c = Context.of(summary, scenario)
@@ -142,6 +156,12 @@ def status(summary: dict[str, Any], scenario: Scenario) -> Status:
     side = _reference_side(c)
     if side is not None:
         (past if side[0] else clear).append(side[1])
+        crossing = _limit_crossing(c)
+        if not side[0] and crossing is not None:
+            near.append(
+                f"from today's {c.s(crossing[0])} it passes its limit of {c.s(crossing[1])} "
+                f"after about {c.t(crossing[2])}"
+            )
     target = c.scenario.reference.target
     rest = get(summary, "dynamics", "trajectory", "attractor")
     if side is None and finite(target) and finite(rest):

@@ -52,16 +52,6 @@ def milestones(c: Context) -> list[Sentence]:
     shares = {str(m.get("kind")): m for m in marks if str(m.get("kind", "")).endswith("way")}
     half, most = shares.get("50% of the way"), shares.get("95% of the way")
     start, rest = found.get("start"), found.get("attractor")
-    if half and finite(half.get("time")) and finite(start) and finite(rest):
-        text = (
-            f"Half of the way from today's {c.s(start)} to the resting {c.s(rest)} takes "
-            f"{c.t(half['time'])}"
-        )
-        values: list[float | None] = [start, rest, half["time"]]
-        if most and finite(most.get("time")):
-            text += f"; 95% of the way takes {c.t(most['time'])}"
-            values.append(most["time"])
-        out.append(sentence("milestone", text + ".", figure, *values))
     for m in marks:
         kind, level, time = str(m.get("kind", "")), m.get("level"), m.get("time")
         if kind.endswith("way") or not finite(level):
@@ -75,6 +65,16 @@ def milestones(c: Context) -> list[Sentence]:
                 f"rest {m['settles']} it, at {c.s(rest)}."
             )
             out.append(sentence("milestone", text, figure, level, rest))
+    if half and finite(half.get("time")) and finite(start) and finite(rest):
+        text = (
+            f"Half of the way from today's {c.s(start)} to the resting {c.s(rest)} takes "
+            f"{c.t(half['time'])}"
+        )
+        values: list[float | None] = [start, rest, half["time"]]
+        if most and finite(most.get("time")):
+            text += f"; 95% of the way takes {c.t(most['time'])}"
+            values.append(most["time"])
+        out.append(sentence("milestone", text + ".", figure, *values))
     return out
 
 
