@@ -230,8 +230,9 @@ def headline(summary: dict[str, Any], scenario: Scenario) -> list[Sentence]:
     elif limit:
         out.extend(limit)
     else:
-        out.extend(current_setting(c)[:1])
+        # Without a lever the story is how long until a level is crossed, then where it rests.
         out.extend(milestones(c)[:1])
+        out.extend(current_setting(c)[:1])
         out.extend(reference_levels(c)[:1])
     risk = [s for s in certainty(c) if s.topic in ("certainty", "safe-setting")]
     o = base_outcome(summary)
