@@ -392,6 +392,16 @@ function sitegenExplorer(MODEL, rate, slope) {
       update();
     }
     slider.addEventListener("input", function () { set(Number(slider.value), slider); });
+    /* The slider is continuous (step "any"); keys move it from the exact current value. */
+    var unit = Number(slider.getAttribute("data-step")), keys = { ArrowRight: 1, ArrowUp: 1,
+      ArrowLeft: -1, ArrowDown: -1, PageUp: 10, PageDown: -10 };
+    slider.addEventListener("keydown", function (event) {
+      var v = event.key === "Home" ? lo : event.key === "End" ? hi : null;
+      if (v === null && keys[event.key]) v = Math.min(hi, Math.max(lo, values[k] + keys[event.key] * unit));
+      if (v === null) return;
+      event.preventDefault();
+      set(v, null);
+    });
     field.addEventListener("input", function () { if (field.value !== "") set(Number(field.value), field); });
     field.addEventListener("change", function () { set(Number(field.value), field); });
     reset.addEventListener("click", function () { set(MODEL.values[k], null); });

@@ -34,7 +34,7 @@ from sitegen.pages import wording
 from sitegen.scenario.records import Scenario
 
 MAX_SCRIPT_BYTES = 30_000
-SLIDER_STEPS = 200  # positions of a slider across its range (arrow keys move one)
+SLIDER_STEPS = 200  # arrow-key steps across a slider's range (the slider is continuous)
 STATE_NAME = "x"
 PARAMETER_ARRAY = "p"
 PLOT_ATTRIBUTES = 'viewBox="0 0 600 250" style="max-width:40rem;width:100%" role="img"'
@@ -183,7 +183,7 @@ def _control(index: int, parameter: int, name: str, label: str, model: Model) ->
         f'<div class="explorer-control" id="explorer-control-{index}">\n'
         f'<label for="explorer-range-{index}">{shown}</label>\n'
         f'<input type="range" id="explorer-range-{index}" data-parameter="{parameter}" '
-        f'min="{low!r}" max="{high!r}" step="{step}" value="{value!r}">\n'
+        f'min="{low!r}" max="{high!r}" step="any" data-step="{step}" value="{value!r}">\n'
         f'<label for="explorer-number-{index}" class="explorer-number-label">'
         f"{shown}, value</label>\n"
         f'<input type="number" id="explorer-number-{index}" min="{low!r}" max="{high!r}" '
