@@ -13,7 +13,7 @@ import sys
 from dataclasses import asdict
 from pathlib import Path
 
-from bench import analysis_bench, imports_bench, uncertainty_bench  # noqa: F401  (they register themselves)
+from bench import analysis_bench, explorer_bench, imports_bench, uncertainty_bench  # noqa: F401
 from bench.registry import BENCHMARKS, Result
 
 
