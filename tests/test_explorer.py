@@ -79,7 +79,13 @@ def pages(browser, tmp_path_factory) -> dict[str, Any]:  # noqa: F811
     """One open page per scenario (kept for the module), and what each is built from."""
     tmp = tmp_path_factory.mktemp("explorer")
     opened: dict[str, Any] = {}
-    for slug in ("quillan-defoliator", "upland-deer", "coastal-sprat", "brindle-shrimp"):
+    for slug in (
+        "quillan-defoliator",
+        "upland-deer",
+        "coastal-sprat",
+        "brindle-shrimp",
+        "vellamere-lake",
+    ):
         scenario, model = _bundled(slug)
         opened[slug] = (open_page(browser, _page(tmp, scenario, model, slug)), model)
     yield opened
@@ -121,6 +127,9 @@ CASES = [
     ("coastal-sprat", {}),
     ("coastal-sprat", {"r": 0.4, "K": 1200.0}),
     ("coastal-sprat", {"H": 140.0}),
+    ("coastal-sprat", {"H": 125.0}),  # at the fold H = rK/4: one double root, semi-stable
+    ("coastal-sprat", {"H": 124.999}),  # just before it: two roots 2.8 kt apart, one cell
+    ("vellamere-lake", {}),  # better = lower: clear-water state, threshold, turbid state
     ("brindle-shrimp", {"H": 0.0}),  # r B log(K/B) is undefined at 0 but tends to 0 there
 ]
 
@@ -196,6 +205,22 @@ def test_past_the_fold_reads_as_collapse(pages) -> None:
     visit_deer, deer = pages["upland-deer"]
     _set(visit_deer, deer, {"H": 300.0})
     assert _readout(visit_deer)["fate"] == "collapse"
+
+
+def test_lower_is_better_past_the_fold_reads_as_a_flip(pages) -> None:
+    """A lake past the loading where the clear-water state vanishes (a fold) ends in the
+    turbid state (Carpenter, Ludwig and Brock 1999, sec. 2): the page says it flips up."""
+    visit, model = pages["vellamere-lake"]
+    _set(visit, model, {})
+    base = _readout(visit)
+    assert base["fate"] == "settles"
+    limit = float(base["lever"]["limit"])
+    _set(visit, model, {model.lever: min(limit * 1.1, model.ranges[model.lever][1])})
+    shown = _readout(visit)
+    assert shown["fate"] == "flips"
+    assert "flips up to the high state" in shown["sentence"]
+    assert shown["lever"]["past"] == "true"
+    assert float(shown["lever"]["limit"]) == pytest.approx(limit, rel=1e-8)
 
 
 def test_keyboard_moves_a_slider_and_the_readout(pages) -> None:

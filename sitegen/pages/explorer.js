@@ -138,12 +138,17 @@ function sitegenExplorer(MODEL, rate, slope) {
   /* The stable state the system is in: today's state's attractor, else (as stage 4
      does) the largest stable positive state, or the lowest one when lower is better. */
   function heldState(eqs, p) {
+    var c = stablePositive(eqs).filter(goodSide);
     var a = MODEL.current === null ? null : attractorOf(MODEL.current, eqs, p);
-    if (a && a.stability === "stable" && a.positive) return a;
-    var c = stablePositive(eqs);
+    if (a && c.indexOf(a) >= 0) return a;
     if (!c.length) return null;
     return MODEL.better === "lower" ? c[0] : c[c.length - 1];
   }
+  /* The protected side: the scenario's own held state (at the scenario's values) and
+     everything on its side of the threshold next to it; a state across that threshold
+     (the turbid lake, the collapsed colony) is not "held", it is the flip. */
+  var side = { lo: -Infinity, hi: Infinity };
+  function goodSide(e) { return MODEL.better === "lower" ? e.value < side.hi : e.value > side.lo; }
   function basin(x, eqs) {
     var lo = low, hi = high;
     for (var i = 0; i < eqs.length; i++) {
@@ -249,7 +254,7 @@ function sitegenExplorer(MODEL, rate, slope) {
     return e;
   }
   function clear(e) { while (e.firstChild) e.removeChild(e.firstChild); }
-  var PLOT = { left: 64, right: 590, top: 14, bottom: 206 };
+  var PLOT = { left: 64, right: 590, top: 24, bottom: 206 };
   function axes(svg, xr, yr, xlabel, ylabel) {
     clear(svg);
     var sx = function (v) { return PLOT.left + ((v - xr[0]) / (xr[1] - xr[0])) * (PLOT.right - PLOT.left); };
@@ -258,11 +263,11 @@ function sitegenExplorer(MODEL, rate, slope) {
     var small = { "font-size": "11", fill: "#55606c" };
     function label(x, y, anchor, words) { var a = Object.assign({ x: x, y: y, "text-anchor": anchor }, small); node(svg, "text", a, words); }
     label(PLOT.left, PLOT.bottom + 14, "middle", num(xr[0]));
-    label(PLOT.right, PLOT.bottom + 14, "middle", num(xr[1]));
+    label(PLOT.right, PLOT.bottom + 14, "end", num(xr[1]));
     label(PLOT.left - 4, PLOT.bottom + 4, "end", num(yr[0]));
     label(PLOT.left - 4, PLOT.top + 8, "end", num(yr[1]));
     label((PLOT.left + PLOT.right) / 2, PLOT.bottom + 30, "middle", xlabel);
-    label(PLOT.left - 4, PLOT.top - 2 + (PLOT.bottom - PLOT.top) / 2, "end", ylabel);
+    label(PLOT.left, PLOT.top - 8, "start", ylabel);
     return { x: sx, y: sy };
   }
   function span(list) {
@@ -274,7 +279,7 @@ function sitegenExplorer(MODEL, rate, slope) {
   function drawRate(eqs) {
     var svg = el("explorer-rate-plot"); if (!svg) return;
     var yr = span(eqs.fs.concat([0]));
-    var s = axes(svg, [low, high], yr, labels.state + (labels.unit ? " (" + labels.unit + ")" : ""), "rate");
+    var s = axes(svg, [low, high], yr, labels.state + (labels.unit ? " (" + labels.unit + ")" : ""), "rate of change (" + (labels.unit || "state") + " per " + labels.timeOne + ")");
     node(svg, "line", { x1: PLOT.left, x2: PLOT.right, y1: s.y(0), y2: s.y(0), stroke: "#1d232b", "stroke-width": "1" });
     var pts = [];
     for (var i = 0; i <= GRID; i++) if (isFinite(eqs.fs[i])) pts.push(s.x(grid[i]).toFixed(1) + "," + s.y(eqs.fs[i]).toFixed(1));
@@ -319,7 +324,8 @@ function sitegenExplorer(MODEL, rate, slope) {
   /* -- readouts -- */
   var labels = {
     state: text("explorer-state-name"), unit: text("explorer-state-unit"),
-    time: text("explorer-time-words"), lever: text("explorer-lever-name"),
+    time: text("explorer-time-words"), timeOne: text("explorer-time-word"),
+    lever: text("explorer-lever-name"),
     leverUnit: text("explorer-lever-unit")
   };
   function say(id, words, data) {
@@ -341,11 +347,17 @@ function sitegenExplorer(MODEL, rate, slope) {
     if (run.fate === "leaves") return ["At these values the " + name + " grows past the top of the region (" + qty(high, labels.unit) + ")" + when + ".", "leaves"];
     if (run.fate === "settles") {
       var end = run.points[run.points.length - 1][1], target = attractorOf(MODEL.current, eqs, values);
-      var v = target ? target.value : end, flip = MODEL.better === "lower" && stable.length > 1 && v > stable[0].value;
-      return [(flip ? "At these values the " + name + " flips up to the high state at " : "At these values the " + name + " settles at ") + qty(v, labels.unit) + (when ? " (within 1%" + when + ")" : "") + ".", flip ? "flips" : "settles"];
+      var v = target ? target.value : end, lower = MODEL.better === "lower";
+      var flip = lower ? v >= side.hi : v <= side.lo;
+      var verb = !flip ? " settles at " : lower ? " flips up to the high state at " : " drops to the low state at ";
+      return ["At these values the " + name + verb + qty(v, labels.unit) + (when ? " (within 1%" + when + ")" : "") + ".", flip ? (lower ? "flips" : "drops") : "settles"];
     }
     return ["At these values the " + name + " is still changing at the end of the run.", "moving"];
   }
+  (function () {
+    var eqs = equilibria(MODEL.values), held = heldState(eqs, MODEL.values);
+    if (held) { var b = basin(held.value, eqs); side = { lo: b.lo, hi: b.hi }; }
+  })();
   function update() {
     var eqs = equilibria(values);
     var list = el("explorer-equilibria");

@@ -213,6 +213,7 @@ def explorer_html(scenario: Scenario, model: Model) -> str:
     )
     state_name = scenario.state.name or scenario.state.symbol
     time_words = wording.time_words(model.time_unit)
+    time_word = wording.time_words(model.time_unit, plural=False)
     return (
         '<section class="explorer-panel" id="explorer-panel" aria-label="Parameter explorer">\n'
         '<p id="explorer-needs-script" class="meta">The explorer needs JavaScript, which is '
@@ -225,7 +226,8 @@ def explorer_html(scenario: Scenario, model: Model) -> str:
         f'<span id="explorer-state-name" hidden>{escape(state_name)}</span>'
         f'<span id="explorer-state-unit" hidden>{escape(unit_words(model.state_unit))}'
         "</span>"
-        f'<span id="explorer-time-words" hidden>{escape(time_words)}</span>{lever_words}\n'
+        f'<span id="explorer-time-words" hidden>{escape(time_words)}</span>'
+        f'<span id="explorer-time-word" hidden>{escape(time_word)}</span>{lever_words}\n'
         f'<fieldset id="explorer-controls"><legend>Parameters</legend>\n{controls}'
         '<button type="button" id="explorer-reset-all">Reset all</button>\n</fieldset>\n'
         '<div id="explorer-readout" aria-live="polite">\n'
