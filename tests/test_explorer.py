@@ -306,6 +306,15 @@ def test_a_function_without_a_javascript_form_fails_at_build_time() -> None:
         javascript_expression(model, sympy.LambertW(model.state))
 
 
+def test_an_oversized_script_fails_at_build_time(monkeypatch) -> None:
+    from sitegen.pages import explorer
+
+    scenario, model = _bundled("coastal-sprat")
+    monkeypatch.setattr(explorer, "MAX_SCRIPT_BYTES", 5_000)
+    with pytest.raises(ExplorerError, match="over the 5,000-byte limit"):
+        explorer_panel(scenario, model, {})
+
+
 def test_no_ranged_parameter_means_no_panel() -> None:
     text = (
         '[scenario]\ntitle = "t"\nsummary = "t"\nassessment_year = 2026\n'

@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 from collections.abc import Mapping
 from dataclasses import dataclass
 from functools import cache
@@ -110,8 +111,14 @@ def javascript_functions(model: Model) -> str:
 
 @cache
 def runtime() -> str:
-    """Our hand-written runtime (``sitegen/pages/explorer.js``)."""
-    return resources.files("sitegen.pages").joinpath("explorer.js").read_text(encoding="utf-8")
+    """Our hand-written runtime (``sitegen/pages/explorer.js``), as embedded in a page.
+
+    Block comments and indentation are dropped to keep pages under the script budget;
+    the runtime has no ``/*`` inside a string or regular expression, so this is exact.
+    """
+    text = resources.files("sitegen.pages").joinpath("explorer.js").read_text(encoding="utf-8")
+    text = re.sub(r"/\*.*?\*/", " ", text, flags=re.DOTALL)
+    return "\n".join(line.strip() for line in text.splitlines() if line.strip()) + "\n"
 
 
 def _number(value: float | None) -> str:
