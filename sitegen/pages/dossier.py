@@ -239,6 +239,7 @@ def scenario_card(d: DossierInput) -> dict[str, Any]:
         "margin_percent": lever_limit.get("margin_percent"),
         "units": dict(summary["units"]),
         "better": scenario.state.better,
+        "state_symbol": scenario.state.symbol,
         "policies": summary["policies"].get("rows") or [],
         "best": summary["policies"].get("best") or {},
         "history": [

@@ -163,10 +163,10 @@ def status(summary: dict[str, Any], scenario: Scenario) -> Status:
                 f"after about {c.t(crossing[2])}"
             )
         heading_to = get(summary, "dynamics", "trajectory", "attractor")
-        if not side[0] and crossing is None and finite(heading_to):
-            # Where it is going matters as much as where it is (a falling body, a draining tank).
-            if wording.number(heading_to) != wording.number(side[2][0]):
-                clear[-1] += f", and it settles at {c.s(heading_to)}, on the same side"
+        # Where it is going matters as much as where it is (a falling body, a draining tank).
+        moving = finite(heading_to) and wording.number(heading_to) != wording.number(side[2][0])
+        if not side[0] and crossing is None and moving:
+            clear[-1] += f", and it settles at {c.s(heading_to)}, on the same side"
     target = c.scenario.reference.target
     rest = get(summary, "dynamics", "trajectory", "attractor")
     if side is None and finite(target) and finite(rest):

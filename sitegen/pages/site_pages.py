@@ -73,8 +73,7 @@ def _policy_view(card: Card) -> TableView | None:
         ("recovery_time", "Recovery after the shock", units.get("time", "")),
         ("collapse_time", "Time to collapse", units.get("time", "")),
     ]
-    table = transpose_policies(rows, measures, card.get("best") or {})
-    return TableView(f"{card['title']}", table.headers, table.rows, table.notes)
+    return transpose_policies(rows, measures, card.get("best") or {})
 
 
 def _tag_view(tag: str, cards: Sequence[Card]) -> TableView:
@@ -133,7 +132,10 @@ def _trend(card: Card) -> list[str]:
     lines = []
     for key in sorted(set(first["values"]) & set(last["values"])):
         a, b = first["values"][key], last["values"][key]
-        unit = card["units"].get("lever", "") if key == card.get("lever") else ""
+        units = card["units"]
+        unit = units.get("lever", "") if key == card.get("lever") else ""
+        if key == card.get("state_symbol"):
+            unit = units.get("state", "")
         change = "unchanged" if a == b else ("up" if b > a else "down")
         lines.append(
             f"{key}: {wording.quantity(a, unit)} in {first['year']}, "

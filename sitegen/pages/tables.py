@@ -80,15 +80,16 @@ def transpose_policies(
         if all(v is None for v in values):
             continue
         winner = best.get(key)
+        texts = [cell(value, unit=unit) for value in values]
+        # Ties as printed are all best: marking one of two equal cells would mislead.
+        top = next((c.text for n, c in zip(names, texts, strict=True) if n == winner), None)
         cells = [row_heading(label)]
-        for name, value in zip(names, values, strict=True):
-            c = cell(value, unit=unit)
-            if winner is not None and name == winner and value is not None:
-                c = Cell(c.text, numeric=c.numeric, best=True)
-            cells.append(c)
+        for c, value in zip(texts, values, strict=True):
+            is_best = top is not None and value is not None and c.text == top
+            cells.append(Cell(c.text, numeric=c.numeric, best=is_best))
         body.append(tuple(cells))
     return TableView(
-        "Policies side by side (★ marks the best value on each row)",
+        "Policies side by side (★ best marks the best value on each row; ties share it)",
         ("Measure", *names),
         tuple(body),
     )
