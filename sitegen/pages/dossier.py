@@ -69,6 +69,7 @@ class DossierInput:
     input_hash: str
     explorer_html: Markup | None = None
     explorer_script: str | None = None
+    explorer_note: str | None = None
     fit: Mapping[str, Any] | None = None
     fit_figures: Sequence[Figure] = ()
 
@@ -178,6 +179,8 @@ def render_dossier(d: DossierInput) -> str:
     for name in ("dynamics", "limits", "policies", "uncertainty", "sensitivity", "economics"):
         warnings.extend(f"{name}: {w}" for w in summary.get(name, {}).get("warnings", ()))
     notes = [*summary["method"].get("notes", ())]
+    if d.explorer_note:
+        notes.append(d.explorer_note)
     for name in ("dynamics", "limits", "policies", "uncertainty", "sensitivity", "economics"):
         notes.extend(f"{name}: {n}" for n in summary.get(name, {}).get("notes", ()))
     return render(

@@ -1,1 +1,1 @@
-"""Stage 8: the site build. Runs every stage per scenario, caches, and writes the site atomically."""
+"""Stage 8: the site build: every stage per scenario, a cache, and an atomic write of the site."""

@@ -22,7 +22,7 @@ import os
 import shutil
 import time
 from collections.abc import Callable, Sequence
-from concurrent.futures import ProcessPoolExecutor
+from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass, field
 from multiprocessing import get_context
 from pathlib import Path
@@ -122,9 +122,26 @@ def _clear_leftovers(out: Path) -> None:
         shutil.rmtree(leftover, ignore_errors=True)
 
 
-def _run_jobs(todo: list[_Job], budget_s: float, version: str, workers: int) -> list[ScenarioBuild]:
+def _progress_line(result: ScenarioBuild) -> str:
+    seconds = sum(result.seconds.values())
+    verdict = "failed (see the index)" if result.error else "built"
+    return f"{result.slug}: {verdict} in {seconds:.1f} s"
+
+
+def _run_jobs(
+    todo: list[_Job],
+    budget_s: float,
+    version: str,
+    workers: int,
+    say: Callable[[str], None],
+) -> list[ScenarioBuild]:
+    """Build every job, reporting one line per scenario as it finishes."""
+    results: list[ScenarioBuild] = []
     if workers <= 1 or len(todo) <= 1:
-        return [build_scenario(str(j.path), j.slug, j.key, budget_s, version) for j in todo]
+        for j in todo:
+            results.append(build_scenario(str(j.path), j.slug, j.key, budget_s, version))
+            say(_progress_line(results[-1]))
+        return results
     # Fork: workers inherit the loaded modules; the SymPy worker inside each forks again.
     with ProcessPoolExecutor(
         max_workers=min(workers, len(todo)), mp_context=get_context("fork")
@@ -132,6 +149,8 @@ def _run_jobs(todo: list[_Job], budget_s: float, version: str, workers: int) -> 
         futures = [
             pool.submit(build_scenario, str(j.path), j.slug, j.key, budget_s, version) for j in todo
         ]
+        for future in as_completed(futures):
+            say(_progress_line(future.result()))
         return [f.result() for f in futures]
 
 
@@ -169,7 +188,7 @@ def build_site(
             todo.append(job)
     if todo:
         say(f"building {len(todo)} scenario(s), {len(cached)} unchanged")
-    results = _run_jobs(todo, budget_s, version, jobs)
+    results = _run_jobs(todo, budget_s, version, jobs, say)
 
     out.parent.mkdir(parents=True, exist_ok=True)
     _clear_leftovers(out)

@@ -16,6 +16,8 @@ import traceback
 from dataclasses import dataclass, field
 from typing import Any
 
+from markupsafe import Markup
+
 from sitegen.errors import ScenarioError
 
 
@@ -50,17 +52,19 @@ def _fit(scenario: Any) -> tuple[dict[str, Any] | None, list[Any]]:
     return fit_summary(report), list(fit_figures(scenario, report))
 
 
-def _explorer(scenario: Any, model: Any, summary: dict[str, Any]) -> tuple[Any, str | None]:
-    try:
-        from sitegen.pages.explorer import explorer_panel  # type: ignore[import-not-found]
-    except ImportError:
-        return None, None
-    panel = explorer_panel(scenario, model, summary)
-    if panel is None:
-        return None, None
-    from markupsafe import Markup
+def _explorer(
+    scenario: Any, model: Any, summary: dict[str, Any]
+) -> tuple[Markup | None, str | None, str | None]:
+    """(panel markup, script, note): a model the page cannot carry gets a note instead."""
+    from sitegen.pages.explorer import ExplorerError, explorer_panel
 
-    return Markup(panel.html), panel.script
+    try:
+        panel = explorer_panel(scenario, model, summary)
+    except ExplorerError as error:
+        return None, None, f"The live explorer is not available for this model: {error}"
+    if panel is None:
+        return None, None, None
+    return Markup(panel.html), panel.script, None
 
 
 def build_scenario(path: str, slug: str, key: str, budget_s: float, version: str) -> ScenarioBuild:
@@ -93,7 +97,9 @@ def build_scenario(path: str, slug: str, key: str, budget_s: float, version: str
         lap("fit")
         figures = figures_for(scenario, assessment)
         lap("figures")
-        explorer_html, explorer_script = _explorer(scenario, build_model(scenario), summary)
+        explorer_html, explorer_script, explorer_note = _explorer(
+            scenario, build_model(scenario), summary
+        )
         dossier = DossierInput(
             scenario=scenario,
             summary=summary,
@@ -102,6 +108,7 @@ def build_scenario(path: str, slug: str, key: str, budget_s: float, version: str
             input_hash=key,
             explorer_html=explorer_html,
             explorer_script=explorer_script,
+            explorer_note=explorer_note,
             fit=fit,
             fit_figures=fit_figures,
         )
