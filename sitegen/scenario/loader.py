@@ -21,8 +21,11 @@ import sympy
 from sitegen.errors import FormulaError, ScenarioError, did_you_mean
 from sitegen.scenario import units
 from sitegen.scenario.checker import Checker, dotted, shorten
+from sitegen.scenario.companion import apply_latest, read_companion
 from sitegen.scenario.formula import ParsedFormula, parse_formula
+from sitegen.scenario.inputs import is_companion
 from sitegen.scenario.locate import Path, SourceIndex
+from sitegen.scenario.monitoring import data_section
 from sitegen.scenario.records import (
     DIRECTIONS,
     HIGHER,
@@ -41,6 +44,8 @@ SCENARIO_SUFFIX = ".toml"
 def find_scenarios(paths: list[str]) -> list[FilePath]:
     """Scenario files named by ``paths`` (files, or folders searched for ``*.toml``).
 
+    Companion files of fitted estimates (``*.fitted.toml``) in a folder are skipped.
+
     Raises :class:`ScenarioError` for a path that does not exist or a folder
     that holds no scenario.
     """
@@ -48,7 +53,11 @@ def find_scenarios(paths: list[str]) -> list[FilePath]:
     for text in paths:
         path = FilePath(text)
         if path.is_dir():
-            files = sorted(p for p in path.glob("*" + SCENARIO_SUFFIX) if p.is_file())
+            files = sorted(
+                p
+                for p in path.glob("*" + SCENARIO_SUFFIX)
+                if p.is_file() and not is_companion(p)  # fitted estimates, not a scenario
+            )
             if not files:
                 raise ScenarioError(
                     "this folder holds no scenario files",
@@ -210,6 +219,12 @@ class _Reader(OptionalSections):
         state = self.state()
         parameters = self.parameters(self.data["parameters"], ("parameters",), base=True)
         model = self.model(parameters)
+        data = None
+        if "data" in self.data:
+            data = data_section(check, self.data["data"], parameters, state, model, path)
+        fits = read_companion(path)
+        parameters, fit_warnings = apply_latest(parameters, fits, data, path)
+        check.warnings.extend(fit_warnings)
         policies = self.policies(parameters, model)
         scenario = Scenario(
             slug=slug,
@@ -230,6 +245,8 @@ class _Reader(OptionalSections):
             reference=self.reference(state),
             economics=self.economics(model),
             maps=self.maps(parameters),
+            data=data,
+            fits=fits,
             source_hash=source_hash,
             warnings=(),
         )

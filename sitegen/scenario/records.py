@@ -46,6 +46,9 @@ class Parameter:
     label: str
     range: tuple[float, float] | None = None
     note: str = ""
+    source: str = (
+        ""  # provenance when not the scenario's own value, e.g. "fitted to 2002-2026 data"
+    )
 
 
 @dataclass(frozen=True)
@@ -135,6 +138,65 @@ class MapSpec:
     y: str
 
 
+START_ESTIMATE = "estimate"  # [data] start: the starting state is fitted too
+TIMINGS = ("start", "mid")  # [data] timing: the index is read at the start or the middle of a year
+
+
+@dataclass(frozen=True)
+class IndexSeries:
+    """One abundance index column: ``values[i]`` belongs to ``DataSpec.years[i]``.
+
+    NaN marks a year without an observation (an empty cell); every other value
+    is above zero (the fit takes logs).
+    """
+
+    name: str
+    values: tuple[float, ...]
+
+
+@dataclass(frozen=True)
+class DataSpec:
+    """Monitoring data from ``[data]``: yearly removals and one or more abundance indices.
+
+    ``years`` run one by one with no gap. ``removals[i]`` is the lever's value
+    (in the lever's unit) held constant through year ``years[i]``. ``start`` is
+    the state at the start of the first year: a parameter name, a number in the
+    state's unit, or "estimate". ``estimate`` names the parameters fitted (each
+    has a range, the search bounds). ``timing`` says when in the year the index is
+    read ("start" or "mid"). ``source`` is the CSV path as written (relative to
+    the scenario) or "inline"; ``data_hash`` the SHA-256 of the CSV bytes (or of
+    the inline columns as text), the provenance of a fit.
+    """
+
+    source: str
+    years: tuple[int, ...]
+    removal: str
+    removals: tuple[float, ...]
+    indices: tuple[IndexSeries, ...]
+    estimate: tuple[str, ...]
+    start: str | float
+    timing: str = "start"
+    replicates: int = 500
+    data_hash: str = ""
+
+
+@dataclass(frozen=True)
+class FitEntry:
+    """One assessment year's fit, as stored in the companion ``<stem>.fitted.toml``.
+
+    ``estimates`` in the parameters' own units (and "start" in the state's unit when
+    the starting state was fitted); ``derived`` holds the lever limit, MSY, B_MSY and
+    today's margin at the fitted values (units as in the fit summary).
+    """
+
+    assessment_year: int
+    data_hash: str
+    first_year: int
+    last_year: int
+    estimates: dict[str, float]
+    derived: dict[str, float] = field(default_factory=dict)
+
+
 @dataclass(frozen=True)
 class Scenario:
     """A validated scenario: the contract between loading and everything after.
@@ -161,6 +223,8 @@ class Scenario:
     reference: ReferencePoints = ReferencePoints()
     economics: Economics | None = None
     maps: tuple[MapSpec, ...] = ()
+    data: DataSpec | None = None
+    fits: tuple[FitEntry, ...] = ()  # from the companion file, oldest first
     source_hash: str = ""
     warnings: tuple[str, ...] = ()
 

@@ -120,6 +120,37 @@ SECTIONS: dict[str, tuple[Key, ...]] = {
         _key("cost", "number", "Cost per unit of lever per unit time.", required=True),
         _key("currency", "text", "Currency word shown with money figures.", '""'),
     ),
+    "data": (
+        _key("file", "text", "CSV file of the data, relative to this scenario file.", "none"),
+        _key(
+            "values",
+            "table",
+            "Inline data instead of a file: one list per column, e.g. year = [...].",
+            "none",
+        ),
+        _key("year", "text", "Name of the year column.", '"year"'),
+        _key(
+            "removal",
+            "text",
+            "Name of the removal column (the lever's value that year, in its unit).",
+            required=True,
+        ),
+        _key("index", "list of text", "Names of the abundance index columns.", required=True),
+        _key(
+            "estimate",
+            "list of text",
+            "Parameters to fit (each needs a range, the search bounds).",
+            required=True,
+        ),
+        _key(
+            "start",
+            "text or number",
+            'State at the start of the first year: a parameter name, a number or "estimate".',
+            '"estimate"',
+        ),
+        _key("timing", "text", 'When the index is read: "start" or "mid" of the year.', '"start"'),
+        _key("replicates", "integer", "Bootstrap replicates for the intervals (0: none).", "500"),
+    ),
     "maps": (
         _key("x", "name", "Parameter on the horizontal axis.", required=True),
         _key("y", "name", "Parameter on the vertical axis.", required=True),
@@ -142,6 +173,7 @@ TOP_LEVEL: tuple[Key, ...] = (
     _key("reference", "table", "Declared reference levels of the state.", "none"),
     _key("economics", "table", "Price and cost for economic yields.", "none"),
     _key("maps", "array of tables", "Extra parameter pairs for two-parameter maps.", "[]"),
+    _key("data", "table", "Monitoring data (removals and an index) to fit the model to.", "none"),
 )
 
 DISTRIBUTION_NUMBERS: dict[str, tuple[tuple[str, ...], tuple[str, ...]]] = {
@@ -176,6 +208,7 @@ def reference_markdown() -> str:
         "reference": "[reference]",
         "economics": "[economics]",
         "maps": "[[maps]]",
+        "data": "[data]",
     }
     parts: list[str] = []
     for section, title in titles.items():
