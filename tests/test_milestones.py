@@ -12,6 +12,7 @@ import pytest
 
 from sitegen.analysis.equilibria import find_equilibria
 from sitegen.dynamics.milestones import lever_settings, milestones_of, reference_levels
+from sitegen.dynamics.records import Milestones
 from sitegen.model.model import build_model
 from sitegen.scenario.loader import load_text
 from sitegen.scenario.records import Scenario
@@ -43,7 +44,7 @@ def scenario(rate: str, parameters: dict[str, tuple[float, str]], extra: str = "
     return load_text("\n".join(lines) + "\n" + extra, "t.toml", "t")
 
 
-def run(s: Scenario):  # noqa: ANN201 - the record type is the point of the test
+def run(s: Scenario) -> Milestones:
     model = build_model(s)
     equilibria, _ = find_equilibria(model)
     return milestones_of(model, float(model.current_state), reference_levels(s), equilibria)
