@@ -27,6 +27,7 @@ from scipy.optimize import least_squares
 
 from sitegen.fitting.problem import Problem
 
+Z95 = 1.959963984540054  # standard normal 97.5% point
 SCREEN_POINTS = 64
 LOCAL_STARTS = 4
 AGREE = 1e-6  # relative difference in cost under which two optima are the same
@@ -48,6 +49,35 @@ class BestFit:
     message: str
     starts: int
     agreeing: int
+
+
+def jacobian_at(problem: Problem, u: np.ndarray) -> np.ndarray:
+    """Jacobian (observations, p) of the concentrated residuals at ``u``, forward differences.
+
+    All p perturbed copies go through one vectorised run.
+    """
+    step = JAC_STEP * np.maximum(np.abs(u), 1.0)
+    step = np.where(u + step > problem.upper, -step, step)
+    trials = np.vstack([u[None], u[None] + np.diag(step)])
+    residuals = problem.residuals(trials)[0]
+    return ((residuals[1:] - residuals[0]) / step[:, None]).T
+
+
+def covariance_at(problem: Problem, u: np.ndarray) -> np.ndarray:
+    """cov(u) = s^2 (J^T J)^-1 at ``u`` (see the module docstring); NaN without a residual df."""
+    jac = jacobian_at(problem, u)
+    residuals = problem.residuals(u[None])[0][0]
+    dof = problem.observations - len(problem.free) - problem.log_index.shape[0]
+    variance = float(residuals @ residuals) / dof if dof > 0 else np.nan
+    return variance * np.linalg.pinv(jac.T @ jac)
+
+
+def jacobian_intervals(
+    problem: Problem, u: np.ndarray, covariance: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """95% intervals (low, high) in natural units: u +- 1.96 se on the search scale."""
+    width = Z95 * np.sqrt(np.clip(np.diag(covariance), 0.0, None))
+    return problem.natural(u - width)[0], problem.natural(u + width)[0]
 
 
 def _screen(problem: Problem, rng: np.random.Generator) -> np.ndarray:
@@ -80,12 +110,7 @@ def best_fit(problem: Problem, seed: int) -> BestFit:
         return problem.residuals(u[None])[0][0]
 
     def jacobian(u: np.ndarray) -> np.ndarray:
-        # Forward differences, all p perturbed copies in one vectorised run.
-        step = JAC_STEP * np.maximum(np.abs(u), 1.0)
-        step = np.where(u + step > problem.upper, -step, step)
-        trials = np.vstack([u[None], u[None] + np.diag(step)])
-        residuals = problem.residuals(trials)[0]
-        return ((residuals[1:] - residuals[0]) / step[:, None]).T
+        return jacobian_at(problem, u)
 
     results = []
     for start in starts:
@@ -105,15 +130,12 @@ def best_fit(problem: Problem, seed: int) -> BestFit:
         )
     best = min(results, key=lambda r: r.cost)
     agreeing = sum(1 for r in results if abs(r.cost - best.cost) <= AGREE * max(best.cost, 1e-300))
-    jac = np.asarray(best.jac, dtype=float)
-    dof = problem.observations - len(problem.free) - problem.log_index.shape[0]
-    variance = 2.0 * best.cost / dof if dof > 0 else np.nan
-    covariance = variance * np.linalg.pinv(jac.T @ jac)
+    u = np.asarray(best.x, dtype=float)
     return BestFit(
-        np.asarray(best.x, dtype=float),
+        u,
         float(best.cost),
-        jac,
-        covariance,
+        jacobian_at(problem, u),
+        covariance_at(problem, u),
         bool(best.status > 0),
         str(best.message),
         len(results),

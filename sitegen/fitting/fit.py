@@ -24,14 +24,13 @@ import time
 import numpy as np
 
 from sitegen.fitting.derived import derived_figures
-from sitegen.fitting.estimate import BestFit, best_fit, refit_batch
+from sitegen.fitting.estimate import BestFit, best_fit, jacobian_intervals, refit_batch
 from sitegen.fitting.problem import START, Problem, build_problem
 from sitegen.fitting.records import Derived, Estimate, FitReport, IndexFit
 from sitegen.model.model import Model, build_model
 from sitegen.scenario.records import FitEntry, Scenario
 
 DEFAULT_SEED = 0
-Z95 = 1.959963984540054  # standard normal 97.5% point
 CONTRAST_RISE = 0.2  # a 20% recovery from a low counts as contrast (common practice, no source)
 POOR_RELATIVE_SE = 0.5
 POOR_CORRELATION = 0.9
@@ -145,12 +144,10 @@ def fit_scenario(scenario: Scenario, replicates: int | None = None) -> FitReport
     previous = _previous(scenario)
     span = problem.upper - problem.lower
     bounds = problem.natural(np.vstack([problem.lower, problem.upper]))
+    jacobian_low, jacobian_high = jacobian_intervals(problem, fit.u, fit.covariance)
     estimates = []
     for j, name in enumerate(problem.free):
         value = float(values[0, j])
-        centre, width = fit.u[j], Z95 * standard_u[j]
-        ends = np.array([centre - width, centre + width])
-        jacobian = np.exp(ends) if problem.logged[j] else ends
         parameter = scenario.parameter(name) if name != START else None
         estimates.append(
             Estimate(
@@ -160,7 +157,7 @@ def fit_scenario(scenario: Scenario, replicates: int | None = None) -> FitReport
                 value,
                 (float(bounds[0, j]), float(bounds[1, j])),
                 float(value * standard_u[j] if problem.logged[j] else standard_u[j]),
-                (float(jacobian[0]), float(jacobian[1])),
+                (float(jacobian_low[j]), float(jacobian_high[j])),
                 _interval(boot_values[:, j]) if boot_values.size else None,
                 bool(
                     min(fit.u[j] - problem.lower[j], problem.upper[j] - fit.u[j])
