@@ -32,7 +32,7 @@ SCREEN_POINTS = 64
 LOCAL_STARTS = 4
 AGREE = 1e-6  # relative difference in cost under which two optima are the same
 JAC_STEP = 1e-7  # relative forward-difference step on the search scale (about sqrt(eps))
-LM_ITERATIONS = 60
+LM_ITERATIONS = 200  # Gauss-Newton converges slowly (linearly) in a long r-K valley
 LM_STEP = 1e-6  # forward-difference step on the search scale
 LM_TOLERANCE = 1e-10  # relative cost change that ends the batched iteration
 
