@@ -41,15 +41,15 @@ class ScenarioBuild:
 
 def _fit(scenario: Any) -> tuple[dict[str, Any] | None, list[Any]]:
     """The fit section's data and figures, when the scenario has monitoring data."""
-    try:
-        from sitegen.figures.fit import fit_figures  # type: ignore[import-not-found]
-        from sitegen.fitting import fit_scenario, fit_summary  # type: ignore[attr-defined]
-    except ImportError:
-        return None, []
+    from sitegen.figures.fit import fit_figures
+    from sitegen.fitting.fit import fit_scenario
+    from sitegen.fitting.summary import fit_summary
+    from sitegen.pages.fit_section import fit_view
+
     report = fit_scenario(scenario)
     if report is None:
         return None, []
-    return fit_summary(report), list(fit_figures(scenario, report))
+    return fit_view(fit_summary(report)), list(fit_figures(scenario, report))
 
 
 def _explorer(
