@@ -221,3 +221,16 @@ def test_lake_loading_fold_against_mpmath(bundle: dict) -> None:
     hysteresis = d["dynamics"]["hysteresis"]
     assert hysteresis is not None and hysteresis["return_value"] is not None
     assert hysteresis["return_value"] < hysteresis["fold_value"]
+
+
+def test_every_page_carries_the_cautions_of_its_field(demo_site) -> None:
+    # Every page defers to the agency's procedures, local rules and qualified professionals;
+    # a cold store and an airdrop add the cautions of their own fields (common practice,
+    # no source: storage rules for medicines, aviation rules for drops).
+    out, _ = demo_site
+    general = "judgement of qualified, licensed professionals"
+    for page in sorted(out.glob("*.html")):
+        assert general in page.read_text("utf-8"), page.name
+    assert "cold-chain rules" in (out / "tamsin-cold-room.html").read_text("utf-8")
+    assert "aviation rules" in (out / "corrie-airdrop.html").read_text("utf-8")
+    assert "water-quality decisions" in (out / "penhallow-reservoir.html").read_text("utf-8")

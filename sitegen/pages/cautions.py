@@ -58,6 +58,11 @@ FIELD_CAUTIONS: dict[str, tuple[str, ...]] = {
         "Hunting and culling follow the applicable game and wildlife laws, seasons and "
         "permits; counts of animals are estimates with wide errors.",
     ),
+    "forestry": (
+        "Spraying and other pest control follow the applicable plant-protection rules and "
+        "product labels, applied by licensed operators; outbreaks also depend on weather and "
+        "stand age, which the model holds constant.",
+    ),
     "fisheries": (
         "Catch limits are set under the applicable fisheries law and management plan; "
         "removals here mean all removals, including discards and unreported catch.",
@@ -70,6 +75,7 @@ FIELD_TAGS: dict[str, frozenset[str]] = {
     "water": frozenset({"water quality", "drinking water", "groundwater", "water supply"}),
     "land": frozenset({"contaminated land", "remediation", "soil"}),
     "wildlife": frozenset({"wildlife", "hunting", "game"}),
+    "forestry": frozenset({"forestry", "pests", "forest"}),
     "fisheries": frozenset({"fisheries", "fishery", "shellfish"}),
 }
 

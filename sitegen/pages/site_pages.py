@@ -120,7 +120,10 @@ def render_compare(cards: Sequence[Card], version: str) -> str:
     shared = [(tag, _tag_view(tag, group)) for tag, group in sorted(tags.items()) if len(group) > 1]
     script = package_script("sort.js")
     shell = PageShell("Policies compared", "compare", version, site_nav("compare.html"), (script,))
-    return render("compare.html.j2", shell, within=within, shared=shared)
+    every_tag = sorted({t for card in cards for t in card.get("tags") or ()})
+    return render(
+        "compare.html.j2", shell, within=within, shared=shared, cautions=cautions_for(every_tag)
+    )
 
 
 def _trend(card: Card) -> list[str]:
