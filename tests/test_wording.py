@@ -83,7 +83,9 @@ def test_infinities() -> None:
 def test_units() -> None:
     assert wording.quantity(125, "kt/yr") == "125 kt/yr"
     assert wording.quantity(0.32, "g/m^2/yr") == "0.32 g/m²/yr"
-    assert wording.quantity(0.2, "1/yr") == "0.2 per yr"
+    assert wording.quantity(0.2, "1/yr") == "0.2 per year"  # a rate in words, not "1/yr"
+    assert wording.quantity(0.03, "1/h") == "0.03 per hour"
+    assert wording.quantity(3.0, "1/m") == "3 per m"  # not a time unit: kept as written
     assert wording.quantity(4.0, "1") == "4"
     assert wording.quantity(4.0, "") == "4"
     assert wording.quantity(9.81, "kg*m/s^2") == "9.81 kg·m/s²"

@@ -23,6 +23,14 @@ from sitegen.pages.sentences_context import (
     get,
     risk_applies,
 )
+from sitegen.pages.sentences_levels import (
+    crossings,
+    lever_margins,
+    lever_settings,
+    milestones,
+    reference_levels,
+    rest_spread,
+)
 from sitegen.pages.sentences_limits import (
     NEAR_PERCENT,
     certainty,
@@ -33,7 +41,7 @@ from sitegen.pages.sentences_limits import (
     recovery,
     stock_status,
 )
-from sitegen.pages.sentences_sections import milestones, reference_levels, section_leads
+from sitegen.pages.sentences_sections import section_leads
 from sitegen.scenario.records import Scenario
 
 __all__ = [
@@ -54,23 +62,27 @@ STATUS_RULES: tuple[tuple[str, str], ...] = (
         PAST,
         "today's lever setting is beyond its sustainable limit (or today's state is already "
         "falling past a tipping point, or flipping up for a pollutant or pest), or the state "
-        "is on the wrong side of its limit reference level",
+        "is on the wrong side of its limit reference level, or today's lever setting is "
+        "beyond the setting at which the resting state reaches that level",
     ),
     (
         NEAR,
-        f"not past the limit, but the margin to the lever limit is under {NEAR_PERCENT:g}% of "
-        "the limit, or, allowing for the uncertainty in the model's parameters, the risk of "
-        "collapse (or of a flip, for a pollutant or pest) under today's setting is above the "
-        "scenario's risk tolerance (5% unless the scenario states another), or the state is "
-        "on the right side of its limit reference level today but is moving to cross it",
+        f"not past the limit, but the margin to the lever limit (or to the setting at which "
+        f"the resting state reaches its limit reference level) is under {NEAR_PERCENT:g}% of "
+        "that setting, or, allowing for the uncertainty in the model's parameters, the risk "
+        "of collapse (or of a flip, for a pollutant or pest) under today's setting is above "
+        "the scenario's risk tolerance (5% unless the scenario states another), or, for a "
+        "model with one stable state that cannot collapse or flip, more than that share of "
+        "the samples rest on the wrong side of the limit reference level, or the state is on "
+        "the right side of its limit reference level today but is moving to cross it",
     ),
     (
         CLEAR,
         f"a margin of at least {NEAR_PERCENT:g}% to the lever limit (or no limit inside the "
         "range studied), the state on the right side of its limit reference level, and any "
         "risk of collapse or flip within the tolerance; without a limit level, a state "
-        "that comes to rest on the good side of its target level (the wrong side reads "
-        "near the limit)",
+        "that reaches its target level (the reason says when) or comes to rest on its good "
+        "side (the wrong side reads near the limit)",
     ),
     (
         NOT_ASSESSED,
@@ -95,7 +107,10 @@ def _reference_side(c: Context) -> tuple[bool, str, tuple[float, ...]] | None:
     if st and finite(st.get("current")) and finite(st.get("limit")):
         wrong = bool(st.get("below_limit"))
         side = "below" if wrong else "above"
-        text = f"today's {c.state}, {c.s(st['current'])}, is {side} its limit of {c.s(st['limit'])}"
+        text = (
+            f"today's {c.state}, {c.s(st['current'])}, {c.verb('is')} {side} {c.its} limit of "
+            f"{c.s(st['limit'])}"
+        )
         return wrong, text, (st["current"], st["limit"])
     limit = c.scenario.reference.limit
     now = get(c.summary, "dynamics", "trajectory", "start")
@@ -104,22 +119,54 @@ def _reference_side(c: Context) -> tuple[bool, str, tuple[float, ...]] | None:
     if finite(limit) and finite(now):
         wrong = now > limit if c.lower else now < limit
         side = "above" if now > limit else "below" if now < limit else "at"
-        text = f"today's {c.state}, {c.s(now)}, is {side} its limit of {c.s(limit)}"
+        text = f"today's {c.state}, {c.s(now)}, {c.verb('is')} {side} {c.its} limit of {c.s(limit)}"
         return wrong, text, (float(now), float(limit))  # type: ignore[arg-type]
     return None
 
 
 def _limit_crossing(c: Context) -> tuple[float, float, float] | None:
     """(start, limit level, time) when the base run from today crosses the limit level."""
-    runs = get(c.summary, "dynamics", "milestones")
-    runs = [r for r in runs if isinstance(r, dict)] if isinstance(runs, list) else []
-    base = next((r for r in runs if r.get("name") == "base"), None)
-    if base is None or not finite(base.get("start")):
+    start = get(c.summary, "dynamics", "trajectory", "start")
+    found = crossings(c).get("limit")
+    if found is None or not finite(start):
         return None
-    for m in base.get("milestones") or ():
-        if m.get("kind") == "limit" and finite(m.get("time")) and finite(m.get("level")):
-            return float(base["start"]), float(m["level"]), float(m["time"])
-    return None
+    return float(start), found[0], found[1]
+
+
+def _rest_against_limit(c: Context, side: tuple[bool, str, tuple[float, ...]]) -> str:
+    """The clear reason of a state that is moving: where it comes to rest, against its limit
+    (a falling bundle starts at 0 m/s; what counts is the speed it settles at)."""
+    rest = get(c.summary, "dynamics", "trajectory", "attractor")
+    now, limit = side[2]
+    if not finite(rest) or wording.number(rest) == wording.number(now):
+        return side[1]
+    where = "above" if rest > limit else "below"
+    return (
+        f"the {c.state} {c.verb('settles')} at {c.s(rest)}, {c.s(abs(rest - limit))} {where} "
+        f"{c.its} limit of {c.s(limit)} ({c.s(now)} today)"
+    )
+
+
+def _lever_margin(c: Context, past: list[str], near: list[str], clear: list[str]) -> None:
+    """The margin of today's lever to the setting that rests the state on its limit level."""
+    for m in lever_margins(c):
+        if m["kind"] != "limit":
+            continue
+        bound = "at most" if m["most"] else "at least"
+        text = (
+            f"the {c.lever_label} that keeps the {c.state} inside {c.its} limit of "
+            f"{c.s(m['level'])} is {bound} "
+            f"{c.lv(m['setting'])}; today's {c.lv(m['now'])} "
+        )
+        pct = m["percent"]
+        share = wording.percent(pct, given="percent") if finite(pct) else ""
+        if m["margin"] <= 0:
+            if not past:
+                past.append(text + f"is {c.lv(-m['margin'])} past it")
+        elif finite(pct) and pct < NEAR_PERCENT:
+            near.append(text + f"leaves {c.lv(m['margin'])}, {share} of it")
+        else:
+            clear.append(text + f"leaves {c.lv(m['margin'])}" + (f" ({share})" if share else ""))
 
 
 def status(summary: dict[str, Any], scenario: Scenario) -> Status:
@@ -155,35 +202,61 @@ def status(summary: dict[str, Any], scenario: Scenario) -> Status:
             )
     side = _reference_side(c)
     if side is not None:
-        (past if side[0] else clear).append(side[1])
         crossing = _limit_crossing(c)
-        if not side[0] and crossing is not None:
+        if side[0]:
+            past.append(side[1])
+        elif crossing is not None:
             near.append(
-                f"from today's {c.s(crossing[0])} it passes its limit of {c.s(crossing[1])} "
-                f"after about {c.t(crossing[2])}"
+                f"the {c.state}, {c.s(crossing[0])} today, {c.verb('passes')} {c.its} limit of "
+                f"{c.s(crossing[1])} after about {c.t(crossing[2])}"
             )
-        heading_to = get(summary, "dynamics", "trajectory", "attractor")
-        # Where it is going matters as much as where it is (a falling body, a draining tank).
-        moving = finite(heading_to) and wording.number(heading_to) != wording.number(side[2][0])
-        if not side[0] and crossing is None and moving:
-            clear[-1] += f", and it settles at {c.s(heading_to)}, on the same side"
+        else:
+            clear.append(_rest_against_limit(c, side))
+    if limit is None:
+        _lever_margin(c, past, near, clear)
     target = c.scenario.reference.target
     rest = get(summary, "dynamics", "trajectory", "attractor")
-    if side is None and finite(target) and finite(rest):
+    reached = crossings(c).get("target")
+    start = get(summary, "dynamics", "trajectory", "start")
+    if side is None and finite(target) and reached is not None and finite(start):
+        clear.append(
+            f"the {c.state}, {c.s(start)} today, {c.verb('reaches')} {c.its} target of "
+            f"{c.s(target)} after about {c.t(reached[1])}"
+        )
+    elif side is None and finite(target) and finite(rest):
         good = rest <= target if c.lower else rest >= target
         verb = "meeting" if good else "missing"
-        text = f"the {c.state} comes to rest at {c.s(rest)}, {verb} its target of {c.s(target)}"
+        text = (
+            f"the {c.state} {c.verb('comes')} to rest at {c.s(rest)}, {verb} {c.its} target of "
+            f"{c.s(target)}"
+        )
         (clear if good else near).append(text)
     o = base_outcome(summary)
     tol = get(summary, "uncertainty", "tolerance")
     tol = tol if finite(tol) else DEFAULT_TOLERANCE
+    spread = rest_spread(c)
     if o is not None and risk_applies(c, o):
-        what = "flip" if c.lower else "collapse"
+        what = "a flip" if c.lower else "collapse"
         text = (
-            f"the {what} risk is {wording.percent(o['collapse_risk'], given='fraction')} "
-            f"against a tolerance of {wording.percent(tol, given='fraction')}"
+            f"allowing for the uncertainty, the risk of {what} is "
+            f"{wording.percent(o['collapse_risk'], given='fraction')} against a tolerance of "
+            f"{wording.percent(tol, given='fraction')}"
         )
         (near if o["collapse_risk"] > tol else clear).append(text)
+    elif spread is not None and spread[2] is not None and not past:
+        limit_level = c.scenario.reference.limit
+        if spread[2]:
+            bad = "above" if c.lower else "below"
+            share = "more than half" if "more than half" in spread[0] else "more than 5%"
+            near.append(
+                f"allowing for the uncertainty, {share} of the samples rest {bad} the limit of "
+                f"{c.s(limit_level)} (the tolerance is {wording.percent(tol, given='fraction')})"
+            )
+        else:
+            clear.append(
+                "allowing for the uncertainty, at least 95% of the samples rest inside the "
+                f"limit of {c.s(limit_level)}"
+            )
     if not (past or near or clear) and c.lever is not None and limit is None:
         notes = get(summary, "limits", "notes") or []
         if any("persists over the whole range" in n for n in notes):
@@ -206,22 +279,28 @@ def _reason(parts: list[str]) -> str:
 
 
 def limit_sentences(summary: dict[str, Any], scenario: Scenario) -> list[Sentence]:
-    """The "limits in plain words" section, in reading order."""
+    """The "limits in plain words" section, in reading order. Of the uncertainty it keeps
+    only the precautionary setting; the risk itself is told in the uncertainty section."""
     c = Context.of(summary, scenario)
     out: list[Sentence] = []
     for build in (
         current_setting,
         milestones,
         largest_setting,
+        lever_settings,
         past_the_limit,
         recovery,
         msy,
         stock_status,
         reference_levels,
-        certainty,
+        _safe_setting,
     ):
         out.extend(build(c))
     return out
+
+
+def _safe_setting(c: Context) -> list[Sentence]:
+    return [s for s in certainty(c) if s.topic == "safe-setting"]
 
 
 def headline(summary: dict[str, Any], scenario: Scenario) -> list[Sentence]:
@@ -230,22 +309,31 @@ def headline(summary: dict[str, Any], scenario: Scenario) -> list[Sentence]:
     out: list[Sentence] = []
     limit = largest_setting(c)
     fall = past_the_limit(c) if get(summary, "dynamics", "collapse") else []
+    timed = [s for s in milestones(c) if s.topic == "milestone" and " after " in s.text]
     if fall:
         out.extend(fall[:1])
     elif limit:
         out.extend(limit)
+    elif timed:
+        # The story is how long until a level is crossed, by option, then where it rests.
+        out.extend(timed[:1])
+        out.extend(s for s in section_leads(c)["policies"] if s.topic == "policies-time")
+        out.extend(reference_levels(c, every=True)[:1])
     else:
-        # Without a lever the story is how long until a level is crossed, then where it rests.
-        out.extend(milestones(c)[:1])
-        out.extend(current_setting(c)[:1])
-        out.extend(reference_levels(c)[:1])
+        # No tipping point in the lever: where the state rests against its limit, and how
+        # far the lever may go before it passes it.
+        out.extend((reference_levels(c, every=True) or current_setting(c))[:1])
+        out.extend(lever_settings(c)[:1])
     risk = [s for s in certainty(c) if s.topic in ("certainty", "safe-setting")]
     o = base_outcome(summary)
     tol = get(summary, "uncertainty", "tolerance")
+    spread = rest_spread(c)
     if risk and o is not None and finite(tol) and (o.get("collapse_risk") or 0.0) > tol:
         out.extend(risk[:2])
-    elif risk and not out:
+    elif risk and len(out) < 3:
         out.append(risk[0])
+    elif not risk and spread is not None and spread[2] is not None and not limit:
+        out.extend(s for s in section_leads(c)["uncertainty"] if s.topic == "state-spread")
     if not out:
         out.extend(stock_status(c)[:1])
     if not out:
@@ -258,5 +346,7 @@ def section_sentences(summary: dict[str, Any], scenario: Scenario) -> dict[str, 
     uncertainty, sensitivity and economics (every key present; lists may be empty)."""
     c = Context.of(summary, scenario)
     leads = section_leads(c)
-    leads["uncertainty"] = certainty(c) + leads.get("uncertainty", [])
+    told = {s.text for s in limit_sentences(summary, scenario)}
+    risk = [s for s in certainty(c) if s.text not in told]
+    leads["uncertainty"] = risk + leads.get("uncertainty", [])
     return leads

@@ -65,6 +65,7 @@ class Context:
     lever_label: str
     state: str
     units: dict[str, str] = field(default_factory=dict)
+    plural: bool = False  # the state's name takes a plural verb ("hydrocarbons ... reach")
 
     @classmethod
     def of(cls, summary: dict[str, Any], scenario: Scenario) -> Context:
@@ -77,15 +78,38 @@ class Context:
         units.setdefault("yield", f"{units['state']}/{units['time']}")
         better = get(summary, "state", "better") or scenario.state.better
         label = plain_name(_parameter_label(scenario, lever)) or lever or ""
+        lever_words, _ = _running_name(label, units["lever"])
+        state = plain_name(scenario.state.name) or get(summary, "state", "symbol") or "state"
+        state_words, plural = _running_name(state, units["state"])
         return cls(
             summary=summary,
             scenario=scenario,
             lower=better == LOWER,
             lever=lever,
-            lever_label=label,
-            state=plain_name(scenario.state.name) or get(summary, "state", "symbol") or "state",
+            lever_label=lever_words,
+            state=state_words,
             units=units,
+            plural=plural,
         )
+
+    def verb(self, singular: str) -> str:
+        """A verb agreeing with the state's name: "settles" or, for a plural name, "settle"."""
+        return plural_verb(singular) if self.plural else singular
+
+    @property
+    def its(self) -> str:
+        """The possessive for the state: "its" or "their"."""
+        return "their" if self.plural else "its"
+
+    @property
+    def stable_state(self) -> str:
+        """ "a stable stock" or, for a plural name, "the young fish stable"."""
+        return f"the {self.state} stable" if self.plural else f"a stable {self.state}"
+
+    @property
+    def it(self) -> str:
+        """The pronoun for the state: "it" or "they"."""
+        return "they" if self.plural else "it"
 
     # Formatters with this scenario's units.
     def s(self, value: float | None) -> str:
@@ -173,19 +197,85 @@ class Context:
         return bifurcation_names(order)[0]
 
 
+_PREPOSITIONS = {"of", "in", "from", "to", "for", "at", "on", "per", "with", "by", "under", "over"}
+_IRREGULAR = {"is": "are", "has": "have", "was": "were", "does": "do", "goes": "go"}
+
+
+def is_plural(name: str) -> bool:
+    """Whether a noun phrase is plural, from its head noun (common English, no source):
+    the last word before a preposition, after trailing participles ("hunting tags issued",
+    "total petroleum hydrocarbons in topsoil" are plural; "mass of bundle and parachute",
+    "phosphorus loading", "spawning biomass" are not)."""
+    words = name.lower().split()
+    for i, word in enumerate(words):
+        if word in _PREPOSITIONS:
+            words = words[:i]
+            break
+    while len(words) > 1 and words[-1].endswith("ed"):
+        words = words[:-1]
+    if " and " in f" {' '.join(words)} ":
+        return True
+    head = words[-1] if words else ""
+    return head.endswith("s") and not head.endswith(("ss", "us", "is", "ics", "ous"))
+
+
+def plural_verb(singular: str) -> str:
+    """The plural of a third-person verb: "is" -> "are", "reaches" -> "reach", "lies" -> "lie"."""
+    if singular in _IRREGULAR:
+        return _IRREGULAR[singular]
+    if singular.endswith(("ches", "shes", "sses", "xes", "zes")):
+        return singular[:-2]
+    if singular.endswith("ies") and len(singular) > 4:
+        return singular[:-3] + "y"
+    return singular[:-1] if singular.endswith("s") else singular
+
+
+def _running_name(name: str, unit: str) -> tuple[str, bool]:
+    """A name for running text and whether it takes a plural verb: a plural name counted in
+    a count unit becomes "number of ..." ("hunting tags issued" in animals/yr reads "number
+    of hunting tags issued", a singular phrase)."""
+    if not is_plural(name):
+        return name, False
+    head = wording.unit_text(unit).partition("/")[0]
+    if head in wording.COUNT_NOUNS or head in wording.COUNT_NOUNS.values():
+        return f"number of {name}", False
+    return name, True
+
+
 def plain_name(name: str) -> str:
     """A name for running text: a bracketed aside is dropped ("herd size (all ages)" ->
     "herd size"), since the sentence adds brackets of its own."""
     return re.sub(r"\s*\([^)]*\)", "", name or "").strip()
 
 
+def can_tip(c: Context) -> bool:
+    """Whether the model can lose its state at all: a threshold, more than one stable
+    state, a fold in the lever, hysteresis or a fall under way. A model with one stable
+    state and nothing of these (a linear tank, a falling body) cannot collapse or flip, so
+    a risk of 0% there is 0 by construction and says nothing."""
+    s = c.summary
+    stable = [e for e in s.get("equilibria") or [] if e.get("stability") == "stable"]
+    folds = [b for b in s.get("bifurcations") or [] if b.get("kind") == "saddle-node"]
+    return bool(
+        [t for t in s.get("thresholds") or [] if finite(t)]
+        or len(stable) > 1
+        or folds
+        or get(s, "limits", "lever_limit")
+        or get(s, "dynamics", "hysteresis")
+        or get(s, "dynamics", "collapse")
+    )
+
+
 def risk_applies(c: Context, outcome: dict[str, Any] | None) -> bool:
-    """Whether a collapse (flip) risk means anything here: some sample collapses or has a
-    positive lever limit, or the scenario declares a collapse level for a lever it sets."""
+    """Whether a collapse (flip) risk means anything here: some sample collapses, or the
+    model can tip (:func:`can_tip`) and some sample has a positive lever limit or the
+    scenario declares a collapse level for a lever it sets."""
     if outcome is None or not finite(outcome.get("collapse_risk")):
         return False
     if outcome.get("collapsed"):
         return True
+    if not can_tip(c):
+        return False
     q = outcome.get("lever_limit") or {}
     if finite(q.get("p95")) and q["p95"] > 0:
         return True

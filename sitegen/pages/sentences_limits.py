@@ -35,27 +35,40 @@ def current_setting(c: Context) -> list[Sentence]:
     value = get(c.summary, "limits", "lever_value")
     if c.lever is not None and finite(value):
         setting = f"With the {c.lever_label} at today's {c.lv(value)}, "
+        if value == 0:
+            setting = f"With no {c.lever_label} (today's setting is {c.lv(value)}), "
     start = run["start"]
-    lead = (setting or "") + f"the {c.state}, now {c.s(start)},"
+    now = f"from {c.s(start)}" if start == 0 else f"now {c.s(start)}"
+    lead = (setting or "") + f"the {c.state}, {now},"
     lead = lead[0].upper() + lead[1:]
     events = {e.get("kind"): e.get("time") for e in run.get("events") or []}
     fate = run.get("fate")
     figure = c.figure("trajectories")
     if fate == "settles" and finite(run.get("attractor")):
+        rest = run["attractor"]
         near = events.get("within 1%")
-        if finite(near) and near > 0:
-            close = "of that level" if run["attractor"] != 0 else "of the range studied from zero"
+        st = c.scenario.state
+        width = st.max - st.min if finite(st.max) and finite(st.min) else None
+        if finite(near) and near > 0 and rest == 0 and finite(width):
+            # Within 1% of zero is measured on the region's width (dynamics stage).
+            way = "falls" if start > 0 else "rises"
             text = (
-                f"{lead} settles at {c.s(run['attractor'])}; it is within 1% {close} "
-                f"after about {c.t(near)}."
+                f"{lead} {c.verb(way)} towards zero; {c.it} {c.verb('is')} under "
+                f"{c.s(width / 100)} (1% of the range studied) after about {c.t(near)}."
             )
-            return [sentence("current-setting", text, figure, value, start, run["attractor"], near)]
-        text = f"{lead} stays at about {c.s(run['attractor'])}."
-        return [sentence("current-setting", text, figure, value, start, run["attractor"])]
+            return [sentence("current-setting", text, figure, value, start, width / 100, near)]
+        if finite(near) and near > 0:
+            text = (
+                f"{lead} {c.verb('settles')} at {c.s(rest)}; {c.it} {c.verb('is')} within 1% "
+                f"of that level after about {c.t(near)}."
+            )
+            return [sentence("current-setting", text, figure, value, start, rest, near)]
+        text = f"{lead} {c.verb('stays')} at about {c.s(rest)}."
+        return [sentence("current-setting", text, figure, value, start, rest)]
     fall = events.get("collapse")
     level = run.get("collapse_level")
     if fate == "collapses" and finite(fall) and finite(level):
-        verb = "rises past" if c.lower else "falls to"
+        verb = c.verb("rises") + " past" if c.lower else c.verb("falls") + " to"
         what = "the level counted as a flip" if c.lower else "the collapse level"
         text = f"{lead} {verb} {what}, {c.s(level)}, in about {c.t(fall)}."
         return [sentence("current-setting", text, figure, value, start, level, fall)]
@@ -69,7 +82,7 @@ def largest_setting(c: Context) -> list[Sentence]:
         return []
     largest = limit.get("direction") != "smallest"
     word = "largest" if largest else "smallest"
-    kept = f"the {c.state} at its low stable level" if c.lower else f"a stable {c.state}"
+    kept = f"the {c.state} at {c.its} low stable level" if c.lower else c.stable_state
     end = (
         "where the stable state meets zero"
         if limit.get("kind") == "transcritical"
@@ -103,7 +116,7 @@ def past_the_limit(c: Context) -> list[Sentence]:
     """What happens past the limit: today's fall and its time, or where the state goes."""
     fall = get(c.summary, "dynamics", "collapse")
     if fall and finite(fall.get("fold_value")) and finite(fall.get("distance")):
-        verb = "flips up to" if c.lower else "collapses to"
+        verb = c.verb("flips") + " up to" if c.lower else c.verb("collapses") + " to"
         lead = (
             f"Today's {c.lv(fall['lever_value'])} is {c.lv(fall['distance'])} past the tipping "
             f"point at {c.lv(fall['fold_value'])}: the {c.state} {verb} "
@@ -135,7 +148,7 @@ def past_the_limit(c: Context) -> list[Sentence]:
             return [sentence("past-the-limit", text, None, *values, fall["collapse_level"], ghost)]
     h = get(c.summary, "dynamics", "hysteresis")
     if h and finite(h.get("fold_value")) and finite(h.get("collapsed_state")):
-        verb = "flips up to" if c.lower else "falls to"
+        verb = c.verb("flips") + " up to" if c.lower else c.verb("falls") + " to"
         beyond = (
             "Below"
             if get(c.summary, "limits", "lever_limit", "direction") == "smallest"
@@ -144,7 +157,8 @@ def past_the_limit(c: Context) -> list[Sentence]:
         level = get(c.summary, "dynamics", "trajectory", "collapse_level")
         named = " (the collapse level)" if not c.lower and level == h["collapsed_state"] else ""
         text = (
-            f"{beyond} {c.lv(h['fold_value'])} the {c.state} has no stable level left near "
+            f"{beyond} {c.lv(h['fold_value'])} the {c.state} {c.verb('has')} no stable level "
+            f"left near "
             f"{c.s(h['fold_state'])} and {verb} {c.s(h['collapsed_state'])}{named}."
         )
         values = (h["fold_value"], h.get("fold_state"), h["collapsed_state"])
@@ -159,19 +173,21 @@ def recovery(c: Context) -> list[Sentence]:
         return []
     fold = h["fold_value"]
     lost = "the low state" if c.lower else f"the {c.state}"
-    first = f"Once the {c.lever_label} has passed {c.lv(fold)} and {lost} is lost"
+    lost_verb = "is" if c.lower else c.verb("is")
+    first = f"Once the {c.lever_label} has passed {c.lv(fold)} and {lost} {lost_verb} lost"
     figure = c.figure("bifurcation")
     if h.get("irreversible") or not finite(h.get("return_value")):
         text = (
-            f"{first}, it cannot be recovered by the {c.lever_label} alone: no setting inside "
-            "the range studied brings it back."
+            f"{first}, {'it' if c.lower else c.it} cannot be recovered by the {c.lever_label} "
+            "alone: no setting inside the range studied brings it back."
         )
         return [sentence("recovery", text, figure, fold)]
     back = h["return_value"]
     way, side = ("down", "below") if back < fold else ("up", "above")
     distance = h.get("distance") if finite(h.get("distance")) else abs(fold - back)
     text = (
-        f"{first}, it comes back only when the {c.lever_label} is brought {way} to {c.lv(back)}, "
+        f"{first}, {'it comes' if c.lower else c.it + ' ' + c.verb('comes')} back only when "
+        f"the {c.lever_label} is brought {way} to {c.lv(back)}, "
         f"{c.lv(distance)} {side} the tipping point: just undoing the last step is not enough."
     )
     return [sentence("recovery", text, figure, fold, back, distance)]
@@ -192,7 +208,7 @@ def msy(c: Context) -> list[Sentence]:
         return [sentence("msy", text, figure, y["lever_at_msy"], y["msy"])]
     first = (
         f"The maximum sustainable yield (MSY, the largest yield that can be taken year after "
-        f"year) is {c.y(y['msy'])}, with the {c.state} at {c.s(y['state_at_msy'])} (B_MSY)."
+        f"year) is {c.y(y['msy'])}, with the {c.state} at {c.s(y['state_at_msy'])} (BMSY)."
     )
     out = [sentence("msy", first, figure, y["msy"], y["state_at_msy"])]
     if y.get("at_fold"):
@@ -224,16 +240,16 @@ def stock_status(c: Context) -> list[Sentence]:
         return []
     current, limit = st["current"], st["limit"]
     source = (
-        "its declared limit level"
+        f"{c.its} declared limit level"
         if str(st.get("limit_source", "")).startswith("[reference]")
-        else "a limit level taken as half of B_MSY (common practice)"
+        else "a limit level taken as half of BMSY (common practice)"
     )
     above = "below" if st.get("below_limit") else "above"
-    text = f"Today's {c.state} of {c.s(current)} is {above} {source}, {c.s(limit)}"
+    text = f"Today's {c.state} of {c.s(current)} {c.verb('is')} {above} {source}, {c.s(limit)}"
     values: list[float | None] = [current, limit]
     ratio = st.get("ratio_to_b_msy")
     if finite(ratio):
-        text += f", and {wording.number(ratio)} times B_MSY"
+        text += f", and {wording.number(ratio)} times BMSY"
         values.append(ratio)
     ref = c.scenario.reference
     others = [(w, v) for w, v in (("trigger", ref.trigger), ("target", ref.target)) if finite(v)]
@@ -241,7 +257,7 @@ def stock_status(c: Context) -> list[Sentence]:
         parts = [
             f"{'above' if current >= v else 'below'} the {w} level of {c.s(v)}" for w, v in others
         ]
-        text += "; it is " + " and ".join(parts)
+        text += f"; {c.it} {c.verb('is')} " + " and ".join(parts)
         values.extend(v for _, v in others)
     out = [sentence("stock-status", text + ".", None, *values)]
     if c.fishery and not c.lower:
@@ -301,11 +317,17 @@ def certainty(c: Context) -> list[Sentence]:
         values.append(tol * 100)
     out = [sentence("certainty", text + ".", figure, *values)]
     safe = o.get("safe_lever")
-    if finite(safe) and finite(tol) and c.lever is not None:
+    search = o.get("lever_search") or ()
+    inside = (
+        len(search) != 2
+        or not all(finite(v) for v in search)
+        or (min(search) <= safe <= max(search) if finite(safe) else False)
+    )
+    if finite(safe) and finite(tol) and c.lever is not None and inside:
         side = "at most" if o.get("limit_side") != "smallest" else "at least"
         text = (
-            f"To keep that risk at {wording.percent(tol, given='fraction')} or less, "
-            f"the {c.lever_label} must be {side} {c.lv(safe)}."
+            f"To keep the risk of {what} at {wording.percent(tol, given='fraction')} or less, "
+            f"allowing for the uncertainty, the {c.lever_label} must be {side} {c.lv(safe)}."
         )
         out.append(sentence("safe-setting", text, figure, tol * 100, safe))
     q = o.get("lever_limit")

@@ -1,10 +1,8 @@
 """Lead sentences of the dossier sections, and the sentences of scenarios without a lever.
 
-``milestones`` reads ``summary["dynamics"]["milestones"]`` when the dynamics
-stage provides it (times until the state crosses a declared reference level,
-the 50% and 95% times of the approach, the half-life) and writes nothing when
-it is absent. ``reference_levels`` compares the resting state with the declared
-limit and target levels.
+The sentences about reference levels (milestones, resting state against the limit and
+target, lever settings, the resting state's spread) are in
+:mod:`sitegen.pages.sentences_levels`.
 """
 
 from __future__ import annotations
@@ -16,102 +14,38 @@ from sitegen.pages.sentences_context import (
     Context,
     Sentence,
     base_outcome,
+    can_tip,
     finite,
     get,
     parameter_words,
     sentence,
 )
+from sitegen.pages.sentences_levels import (
+    crossing_verb,
+    crossings,
+    listed,
+    rest_spread,
+    stable_levels,
+)
 
 SECTIONS = ("equilibria", "dynamics", "policies", "uncertainty", "sensitivity", "economics")
 
 
-def _stable(c: Context) -> list[float]:
-    return [
-        e["value"]
-        for e in c.summary.get("equilibria") or []
-        if e.get("stability") == "stable" and finite(e.get("value"))
-    ]
-
-
-def _milestone_set(data: Any) -> dict[str, Any] | None:
-    """The base model's milestones: the stage gives one set, or one per model (by name)."""
-    if isinstance(data, list):
-        sets = [m for m in data if isinstance(m, dict)]
-        data = next((m for m in sets if m.get("name") == "base"), sets[0] if sets else None)
-    return data if isinstance(data, dict) else None
-
-
-def milestones(c: Context) -> list[Sentence]:
-    """Times until the state crosses its reference levels, and the 50% / 95% times."""
-    found = _milestone_set(get(c.summary, "dynamics", "milestones"))
-    if found is None:
-        return []
-    marks = [m for m in found.get("milestones") or [] if isinstance(m, dict)]
-    figure = c.figure("trajectories")
-    out: list[Sentence] = []
-    shares = {str(m.get("kind")): m for m in marks if str(m.get("kind", "")).endswith("way")}
-    half, most = shares.get("50% of the way"), shares.get("95% of the way")
-    start, rest = found.get("start"), found.get("attractor")
-    for m in marks:
-        kind, level, time = str(m.get("kind", "")), m.get("level"), m.get("time")
-        if kind.endswith("way") or not finite(level):
-            continue
-        if finite(time):
-            text = f"The {c.state} reaches its {kind} level of {c.s(level)} after {c.t(time)}."
-            out.append(sentence("milestone", text, figure, level, time))
-        elif m.get("settles") in ("above", "below") and finite(rest):
-            text = (
-                f"The {c.state} never reaches its {kind} level of {c.s(level)}: it comes to "
-                f"rest {m['settles']} it, at {c.s(rest)}."
-            )
-            out.append(sentence("milestone", text, figure, level, rest))
-    if half and finite(half.get("time")) and finite(start) and finite(rest):
-        text = (
-            f"Half of the way from today's {c.s(start)} to the resting {c.s(rest)} takes "
-            f"{c.t(half['time'])}"
-        )
-        values: list[float | None] = [start, rest, half["time"]]
-        if most and finite(most.get("time")):
-            text += f"; 95% of the way takes {c.t(most['time'])}"
-            values.append(most["time"])
-        out.append(sentence("milestone", text + ".", figure, *values))
-    return out
-
-
-def reference_levels(c: Context) -> list[Sentence]:
-    """The resting state against the declared limit and target (when no stock status does it)."""
-    if get(c.summary, "limits", "stock_status"):
-        return []
-    stable = _stable(c)
-    attractor = get(c.summary, "dynamics", "trajectory", "attractor")
-    rest = attractor if finite(attractor) else (stable[0] if len(stable) == 1 else None)
-    ref = c.scenario.reference
-    out: list[Sentence] = []
-    for word, level in (("limit", ref.limit), ("target", ref.target), ("trigger", ref.trigger)):
-        if not finite(level) or not finite(rest):
-            continue
-        good = rest <= level if c.lower else rest >= level
-        side = "above" if rest > level else "below" if rest < level else "at"
-        verdict = "meets" if good else "misses"
-        text = (
-            f"The {c.state} comes to rest at {c.s(rest)}, {side} the {word} level of "
-            f"{c.s(level)}: it {verdict} it."
-        )
-        out.append(sentence("reference", text, c.figure("phase-line"), rest, level))
-    return out
-
-
 def _equilibria(c: Context) -> list[Sentence]:
-    stable = _stable(c)
+    stable = stable_levels(c)
     figure = c.figure("phase-line")
     if not stable:
         return []
     if len(stable) == 1:
-        text = f"At today's settings the {c.state} has one stable resting level, {c.s(stable[0])}."
+        text = (
+            f"At today's settings the {c.state} {c.verb('has')} one stable resting level, "
+            f"{c.s(stable[0])}."
+        )
     else:
         levels = ", ".join(c.s(v) for v in stable[:-1]) + " and " + c.s(stable[-1])
         text = (
-            f"At today's settings the {c.state} has {len(stable)} stable resting levels: {levels}."
+            f"At today's settings the {c.state} {c.verb('has')} {len(stable)} stable resting "
+            f"levels: {levels}."
         )
     out = [sentence("equilibria", text, figure, *stable)]
     thresholds = [t for t in c.summary.get("thresholds") or [] if finite(t)]
@@ -119,13 +53,15 @@ def _equilibria(c: Context) -> list[Sentence]:
         t = thresholds[0]
         if len(stable) > 1:
             text = (
-                f"The threshold at {c.s(t)} divides them: from below it the {c.state} goes "
-                "to the lower level, from above it to the upper one."
+                f"The threshold at {c.s(t)} divides them: from below it the {c.state} "
+                f"{c.verb('goes')} to the lower level, from above it to the upper one."
             )
         elif c.lower:
-            text = f"Above {c.s(t)} the {c.state} runs away upwards instead of returning."
+            text = (
+                f"Above {c.s(t)} the {c.state} {c.verb('runs')} away upwards instead of returning."
+            )
         else:
-            text = f"Below {c.s(t)} the {c.state} falls away instead of returning."
+            text = f"Below {c.s(t)} the {c.state} {c.verb('falls')} away instead of returning."
         out.append(sentence("threshold", text, figure, t))
     return out
 
@@ -137,41 +73,118 @@ def _dynamics(c: Context) -> list[Sentence]:
     if not finite(r.get("start")):
         return []
     lead = (
-        f"After a shock that moves it from its resting level of {c.s(r['stable_state'])} to "
-        f"{c.s(r['start'])}, the {c.state}"
+        f"After a shock that moves {c.it} from {c.its} resting level of "
+        f"{c.s(r['stable_state'])} to {c.s(r['start'])}, the {c.state}"
     )
     figure = c.figure("trajectories")
     if finite(r.get("time_to_10")):
-        text = f"{lead} is back within 10% of it in {c.t(r['time_to_10'])}"
+        text = f"{lead} {c.verb('is')} back within 10% of it in {c.t(r['time_to_10'])}"
         values = [r["stable_state"], r["start"], r["time_to_10"]]
         if finite(r.get("time_to_1")):
             text += f" and within 1% in {c.t(r['time_to_1'])}"
             values.append(r["time_to_1"])
         return [sentence("recovery-time", text + ".", figure, *values)]
-    text = f"{lead} does not come back: the shock pushes it past a threshold."
+    text = f"{lead} {c.verb('does')} not come back: the shock pushes {c.it} past a threshold."
     return [sentence("recovery-time", text, None, r["stable_state"], r["start"])]
 
 
+def _row_name(name: str) -> str:
+    return "today's settings" if name == "base" else name
+
+
+def _distinct(c: Context, rows: list[dict[str, Any]], key: Any) -> list[dict[str, Any]]:
+    """Rows with ``key(row)`` finite, "base" dropped when a named row gives the same."""
+    kept = [r for r in rows if r.get("name") and finite(key(r))]
+    others = [wording.number(key(r)) for r in kept if r["name"] != "base"]
+    return [r for r in kept if r["name"] != "base" or wording.number(key(r)) not in others]
+
+
+def _policy_times(c: Context, rows: list[dict[str, Any]]) -> list[Sentence]:
+    """How long each option takes to cross the first reference level most of them cross."""
+    times = {r["name"]: crossings(c, r["name"]) for r in rows if r.get("name")}
+    kinds = [k for k in ("limit", "target", "trigger") if sum(k in v for v in times.values()) > 1]
+    if not kinds:
+        return []
+    kind = kinds[0]
+    rows = _distinct(c, rows, lambda r: times.get(r["name"], {}).get(kind, (0, None))[1])
+    if len(rows) < 2:
+        return []
+    level = times[rows[0]["name"]][kind][0]
+    start = get(c.summary, "dynamics", "trajectory", "start")
+    verb = crossing_verb(c, level > start if finite(start) else c.lower)
+    parts = [f"{c.t(times[r['name']][kind][1])} with {_row_name(r['name'])}" for r in rows]
+    text = (
+        f"The time until the {c.state} {verb} {c.its} {kind} level of {c.s(level)}: "
+        f"{listed(parts)}."
+    )
+    values = [level, *(times[r["name"]][kind][1] for r in rows)]
+    return [sentence("policies-time", text, c.figure("trajectories"), *values)]
+
+
+def _policy_levels(c: Context, rows: list[dict[str, Any]]) -> list[Sentence]:
+    """Where each option leaves the resting state against the declared limit level."""
+    limit = c.scenario.reference.limit
+    rows = _distinct(c, rows, lambda r: r.get("stable_state"))
+    rests = {wording.number(r["stable_state"]) for r in rows}
+    if not finite(limit) or len(rows) < 2 or len(rests) < 2:
+        return []
+    sides = {(r["stable_state"] <= limit) == c.lower for r in rows}
+    if can_tip(c) and len(sides) < 2:
+        return []  # every option on the same side: the tipping point tells the story
+    parts = []
+    for r in rows:
+        rest = r["stable_state"]
+        good = rest <= limit if c.lower else rest >= limit
+        parts.append(f"{_row_name(r['name'])}, {c.s(rest)} ({'inside' if good else 'past'} it)")
+    text = f"Against {c.its} limit of {c.s(limit)}, the {c.state} {c.verb('settles')} at: "
+    text += "; ".join(parts) + "."
+    values = [limit, *(r["stable_state"] for r in rows)]
+    return [sentence("policies-limit", text, None, *values)]
+
+
 def _policies(c: Context) -> list[Sentence]:
-    rows = get(c.summary, "policies", "rows") or []
+    rows = [r for r in get(c.summary, "policies", "rows") or [] if isinstance(r, dict)]
     best = get(c.summary, "policies", "best") or {}
     named = {r.get("name"): r for r in rows}
-    out: list[Sentence] = []
-    key, words = ("stable_state", "the lowest resting level" if c.lower else "the largest stock")
+    out: list[Sentence] = _policy_times(c, rows) + _policy_levels(c, rows)
+    key = "stable_state"
+    words = f"the lowest resting {c.state}" if c.lower else f"the highest resting {c.state}"
+    if c.fishery and not c.lower:
+        words = "the largest stock"
     row = named.get(best.get(key))
-    if row is not None and finite(row.get(key)) and len(rows) > 1:
-        text = f"Of the {len(rows)} rows compared, {row['name']} gives {words}, {c.s(row[key])}."
+    rests = {wording.number(r.get(key)) for r in rows if finite(r.get(key))}
+    if row is not None and finite(row.get(key)) and len(rests) > 1 and not out:
+        text = (
+            f"Of the {len(rows)} options compared, {_row_name(row['name'])} gives {words}, "
+            f"{c.s(row[key])}."
+        )
         out.append(sentence("policies", text, None, len(rows), row[key]))
     row = named.get(best.get("yield"))
     if row is not None and finite(row.get("yield")) and len(rows) > 1:
-        text = f"The largest sustainable yield comes from {row['name']}: {c.y(row['yield'])}."
-        out.append(sentence("policies-yield", text, None, row["yield"]))
-    lost = [r for r in rows if r.get("stable_state") is None and r.get("name")]
-    if lost and len(rows) > 1:
-        what = "flips the state up" if c.lower else "loses the stable state"
         text = (
-            f"{len(lost)} of the {len(rows)} rows {what}: "
-            + ", ".join(r["name"] for r in lost)
+            f"The largest sustainable yield comes from {_row_name(row['name'])}: "
+            f"{c.y(row['yield'])}."
+        )
+        out.append(sentence("policies-yield", text, None, row["yield"]))
+    # An option whose state rests on the region's edge (decay to zero) has no stable
+    # state in the table but a resting level in its milestones: it has lost nothing.
+    resting = {
+        m.get("name")
+        for m in get(c.summary, "dynamics", "milestones") or []
+        if isinstance(m, dict) and finite(m.get("attractor"))
+    }
+    lost = [
+        r
+        for r in rows
+        if r.get("stable_state") is None and r.get("name") and r["name"] not in resting
+    ]
+    if lost and len(rows) > 1:
+        what = "flip the state up" if c.lower else "lose the stable state"
+        if len(lost) == 1:
+            what = "flips the state up" if c.lower else "loses the stable state"
+        text = (
+            f"{len(lost)} of the {len(rows)} options {what}: "
+            + ", ".join(_row_name(r["name"]) for r in lost)
             + "."
         )
         out.append(sentence("policies-lost", text, None, len(lost), len(rows)))
@@ -179,37 +192,39 @@ def _policies(c: Context) -> list[Sentence]:
 
 
 def _uncertainty(c: Context) -> list[Sentence]:
-    o = base_outcome(c.summary)
-    q = o.get("stable_state") if o else None
-    if not q or not all(finite(q.get(k)) for k in ("p05", "p50", "p95")):
+    found = rest_spread(c)
+    if found is None:
         return []
-    text = (
-        f"Under the uncertainty, the resting {c.state} lies between {c.s(q['p05'])} and "
-        f"{c.s(q['p95'])} in 90% of the samples (median {c.s(q['p50'])})."
-    )
-    return [sentence("state-spread", text, None, q["p05"], q["p95"], q["p50"])]
+    return [sentence("state-spread", found[0], None, *found[1])]
 
 
 def _sensitivity(c: Context) -> list[Sentence]:
     models = get(c.summary, "sensitivity", "models") or []
     base = next((m for m in models if m.get("name") == "base"), None)
-    target = get(base, "lever_limit") or get(base, "states", 0)
+    # A lever limit means a tipping point only where the model can tip at all.
+    on_limit = bool(get(base, "lever_limit")) and can_tip(c)
+    target = get(base, "lever_limit") if on_limit else get(base, "states", 0)
     if not target:
         return []
     ranked = [s for s in target.get("sensitivities") or [] if finite(s.get("elasticity"))]
     if not ranked:
         return []
     top = max(ranked, key=lambda s: abs(s["elasticity"]))
-    what = (
-        f"the limit of the {c.lever_label}"
-        if get(base, "lever_limit")
-        else f"the resting {c.state}"
-    )
+    if on_limit:
+        side = get(c.summary, "limits", "lever_limit", "direction") or get(
+            base_outcome(c.summary), "limit_side"
+        )
+        word = "smallest" if side == "smallest" else "largest"
+        kept = f"the {c.state} at {c.its} low stable level" if c.lower else c.stable_state
+        what = f"The {word} {c.lever_label} that keeps {kept}"
+        verb = "depends"
+    else:
+        what, verb = f"The resting {c.state}", c.verb("depends")
     e, name = top["elasticity"], str(top.get("parameter"))
-    way = "rises" if e > 0 else "falls"
+    words = parameter_words(c, name)
+    way = "raises" if e > 0 else "lowers"
     text = (
-        f"{what[0].upper() + what[1:]} depends most on the {parameter_words(c, name)} ({name}): "
-        f"a 1% rise in it {way.replace('rises', 'raises').replace('falls', 'lowers')} it by "
+        f"{what} {verb} most on the {words} ({name}): a 1% rise in the {words} {way} it by "
         f"{wording.percent(abs(e), given='percent')}."
     )
     return [sentence("sensitivity", text, None, abs(e))]

@@ -14,7 +14,8 @@ Conventions (common practice, no source):
 
 Units are written as the scenario declares them, with the few ASCII spellings
 tidied the same way everywhere: ``^2`` becomes ², ``*`` a middle dot, a bare
-``1/yr`` reads "per yr", and the dimensionless unit "1" (or "") is left out.
+rate ``1/yr`` reads "per year" (the time unit as a word), and the dimensionless unit
+"1" (or "") is left out.
 """
 
 from __future__ import annotations
@@ -109,14 +110,15 @@ def number(value: float | None, sig: int = 3) -> str:
 
 
 def unit_text(unit: str) -> str:
-    """A declared unit tidied for reading ("g/m^2/yr" -> "g/m²/yr", "1/yr" -> "per yr")."""
+    """A declared unit tidied for reading ("g/m^2/yr" -> "g/m²/yr", "1/yr" -> "per year")."""
     unit = unit.strip()
     if unit in DIMENSIONLESS:
         return ""
     text = re.sub(r"\^(-?\d+)", lambda m: m.group(1).translate(_SUPERSCRIPT), unit)
     text = text.replace("*", "·")
     if text.startswith("1/"):
-        text = "per " + text[2:]
+        rest = text[2:]
+        text = "per " + (TIME_WORDS[rest][0] if rest in TIME_WORDS else rest)
     return text
 
 
