@@ -237,6 +237,7 @@ def test_soil_headline_states_the_time_to_its_target(soil: Case) -> None:
     assert not [s for s in made if s.topic == "policies-lost"]
     # The hydrocarbons are plural: "reach their target", never "reaches its".
     assert "hydrocarbons in topsoil reach their target" in head[0].text
+    assert not [s for s in head if re.search(r"(?<![\d,.])0 mg/kg", s.text)]  # zero is no news
     assert not [s for s in made if "hydrocarbons in topsoil reaches" in s.text]
 
 
@@ -479,7 +480,8 @@ def test_airdrop_terminal_speed_against_the_safe_landing_speed(airdrop: Case) ->
     for policy in scenario.policies:
         speed = terminal({**v, **policy.values})
         verdict = "past it" if speed > limit else "inside it"
-        assert f"{policy.name}, {wording.quantity(speed, 'm/s')} ({verdict})" in rows.text
+        name = f"\u201c{policy.name}\u201d" if "," in policy.name else policy.name
+        assert f"{name}, {wording.quantity(speed, 'm/s')} ({verdict})" in rows.text
     head = sentences.headline(summary, scenario)
     assert wording.quantity(terminal(v), "m/s") in head[0].text  # 8.69 m/s, today's law
     heaviest = v["c"] * (limit / v["v1"]) ** v["p"] / v["g"]

@@ -318,7 +318,7 @@ def headline(summary: dict[str, Any], scenario: Scenario) -> list[Sentence]:
         # The story is how long until a level is crossed, by option, then where it rests.
         out.extend(timed[:1])
         out.extend(s for s in section_leads(c)["policies"] if s.topic == "policies-time")
-        out.extend(reference_levels(c, every=True)[:1])
+        out.extend(reference_levels(c, every=True, wrong_only=True)[:1])
     else:
         # No tipping point in the lever: where the state rests against its limit, and how
         # far the lever may go before it passes it.

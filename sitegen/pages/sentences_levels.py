@@ -133,9 +133,12 @@ def _reference_rest(c: Context) -> float | None:
     return attractor if finite(attractor) else (stable[0] if len(stable) == 1 else None)
 
 
-def reference_levels(c: Context, *, every: bool = False) -> list[Sentence]:
+def reference_levels(
+    c: Context, *, every: bool = False, wrong_only: bool = False
+) -> list[Sentence]:
     """The resting state against the declared limit and target (when no stock status does
-    it, and, unless ``every``, for the levels no milestone sentence already names)."""
+    it, and, unless ``every``, for the levels no milestone sentence already names; with
+    ``wrong_only``, only the levels it rests on the wrong side of)."""
     if get(c.summary, "limits", "stock_status"):
         return []
     rest = _reference_rest(c)
@@ -148,6 +151,8 @@ def reference_levels(c: Context, *, every: bool = False) -> list[Sentence]:
         if not finite(level) or not finite(rest) or word in crossed:
             continue
         good = rest <= level if c.lower else rest >= level
+        if good and wrong_only:
+            continue
         side = "above" if rest > level else "below" if rest < level else "at"
         if side == "at":
             text = f"The {c.state} {c.verb('settles')} at {c.its} {word} level, {c.s(level)}."

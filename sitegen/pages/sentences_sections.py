@@ -89,7 +89,10 @@ def _dynamics(c: Context) -> list[Sentence]:
 
 
 def _row_name(name: str) -> str:
-    return "today's settings" if name == "base" else name
+    """An option's name for a list: quoted when it holds a comma of its own."""
+    if name == "base":
+        return "today's settings"
+    return f"\u201c{name}\u201d" if "," in name else name
 
 
 def _distinct(c: Context, rows: list[dict[str, Any]], key: Any) -> list[dict[str, Any]]:
