@@ -219,3 +219,11 @@ def test_fit_without_data_is_a_usage_error(tmp_path: Path) -> None:
     path.write_text(SCENARIO.split("[data]")[0], encoding="utf-8")
     assert main(["fit", str(path)]) == 2
     assert main(["fit", str(write(tmp_path, data=csv_text(ROWS[:4])))]) == 1
+
+
+def test_text_without_its_file_loads_without_data_and_says_so() -> None:
+    from sitegen.scenario.loader import load_text
+
+    scenario = load_text(SPRAT.read_text(encoding="utf-8"), "elsewhere.toml", "elsewhere")
+    assert scenario.data is None
+    assert any("was not read" in warning for warning in scenario.warnings)

@@ -177,8 +177,13 @@ def data_section(
     state: StateSpec,
     model: ModelSpec,
     scenario_path: str,
-) -> DataSpec:
-    """Validate ``[data]`` (already known to be present) into a :class:`DataSpec`."""
+) -> DataSpec | None:
+    """Validate ``[data]`` (already known to be present) into a :class:`DataSpec`.
+
+    None only when the scenario text was not loaded from its own file and the data
+    file beside it cannot be found (a warning says so); for a scenario file, an
+    unreadable data file is an error.
+    """
     table = check.table(raw, ("data",), "data")
     if model.lever is None:
         check.fail(
@@ -201,6 +206,15 @@ def data_section(
                 )
             raw_bytes = csv_path.read_bytes()
         except OSError as error:
+            if not FilePath(scenario_path).is_file():
+                # Text given without its file (e.g. from memory): the CSV beside it
+                # cannot be located, so the scenario loads without its data, and says so.
+                check.warn(
+                    ("data", "file"),
+                    f"the data file {shown} was not read: the scenario was not loaded from "
+                    "its own file, so the data beside it cannot be found",
+                )
+                return None
             check.fail(
                 ("data", "file"),
                 f"cannot read the data file {shown} ({error.strerror})",
