@@ -23,8 +23,6 @@ from sitegen.pages.sentences_context import (
     sentence,
 )
 
-NEAR_PERCENT = 10.0  # margin below this percentage of the limit reads "near"
-
 
 def current_setting(c: Context) -> list[Sentence]:
     """Where today's setting leads: the state it settles at and when, or the fall and when."""

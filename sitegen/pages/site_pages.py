@@ -16,7 +16,7 @@ from sitegen.pages import wording
 from sitegen.pages.cautions import cautions_for
 from sitegen.pages.markup import narrative_html
 from sitegen.pages.render import PageShell, package_script, render, site_nav
-from sitegen.pages.sentences import STATUS_RULES
+from sitegen.pages.status_rules import STATUS_RULES
 from sitegen.pages.tables import Cell, TableView, cell, row_heading, transpose_policies
 
 Card = Mapping[str, Any]
