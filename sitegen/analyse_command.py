@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 import sys
 
-from sitegen.analysis.symbolic import DEFAULT_BUDGET_S
+from sitegen.analysis.budget import DEFAULT_BUDGET_S
 
 
 def _arguments(parser: argparse.ArgumentParser) -> None:

@@ -6,7 +6,7 @@ import argparse
 import sys
 from pathlib import Path
 
-DEFAULT_BUDGET_S = 5.0  # seconds per SymPy step, as sitegen analyse
+from sitegen.analysis.budget import DEFAULT_BUDGET_S
 
 
 def _arguments(parser: argparse.ArgumentParser) -> None:

@@ -31,7 +31,7 @@ from typing import Any
 
 import sympy
 
-DEFAULT_BUDGET_S = 5.0
+from sitegen.analysis.budget import DEFAULT_BUDGET_S  # re-exported: callers import it here
 
 WORKER_STOPPED = "the SymPy worker stopped"
 OK, FAILED, TIMED_OUT, SKIPPED = "ok", "failed", "timed out", "skipped"

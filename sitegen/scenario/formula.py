@@ -445,4 +445,3 @@ class FormulaPrinter(StrPrinter):
 def to_formula(expr: sympy.Expr) -> str:
     """The formula text for ``expr`` (``**`` for powers, lowercase functions)."""
     return FormulaPrinter({"order": "none"}).doprint(expr)
-
