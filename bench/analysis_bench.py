@@ -7,10 +7,10 @@ import time
 import mpmath
 import numpy as np
 import sympy
-from sitegen.analysis.continuation import continue_equilibria
 
 from bench.registry import Result, benchmark
 from sitegen.analysis.analyse import analyse_model
+from sitegen.analysis.continuation import continue_equilibria
 from sitegen.model.model import Model, build_model
 from sitegen.scenario.loader import load_text
 
@@ -197,5 +197,5 @@ def run(quick: bool) -> list[Result]:
     ]
     points = 42 if quick else 202
     results.append(_compare(logistic, "H", points, "logistic quota in H"))
-    results.append(_compare(insect, "r", points // 2 + 1, "insect outbreak in r"))
+    results.append(_compare(insect, "r", 42 if quick else 102, "insect outbreak in r"))
     return results
