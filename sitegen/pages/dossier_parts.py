@@ -38,10 +38,10 @@ def parameter_table(scenario: Scenario) -> TableView:
                 cell(p.value, sig=4),
                 Cell(p.unit or "–"),
                 Cell(low_high, numeric=bool(p.range)),
-                Cell(p.note or "–"),
+                Cell("; ".join(part for part in (p.source, p.note) if part) or "–"),
             )
         )
-    headers = ("Symbol", "Meaning", "Value", "Unit", "Range explored", "Note")
+    headers = ("Symbol", "Meaning", "Value", "Unit", "Range explored", "Source and note")
     return TableView("Parameters", headers, tuple(rows))
 
 

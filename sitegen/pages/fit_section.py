@@ -121,7 +121,11 @@ def _brief_lines(fit: Mapping[str, Any]) -> list[str]:
         ]
     lines = []
     labels = {**fit.get("estimates", {}), **fit.get("derived", {})}
-    for name, change in sorted(changes.items()):
+    # The limits first (what the board decides on), then the estimates behind them.
+    order = ["lever_limit", "margin", "msy", "b_msy", "state", *sorted(fit.get("estimates", {}))]
+    ranked = sorted(changes.items(), key=lambda kv: (order.index(kv[0]) if kv[0] in order
+                                                     else len(order), kv[0]))  # fmt: skip
+    for name, change in ranked:
         item = labels.get(name, {})
         unit = item.get("unit") or ""
         label = item.get("label") or name
