@@ -98,6 +98,9 @@ def run(quick: bool) -> list[Result]:
     errors: list[tuple[str, float]] = []
     missing: list[str] = []
     folder = source(quick)
+    where = (
+        "--quick: the quick subset of the bundled scenarios" if quick else "every bundled scenario"
+    )
     with mpmath.workdps(DIGITS):
         for summary_path in sorted(build.out.glob("*.json")):
             scenario = folder / f"{summary_path.stem}.toml"
@@ -124,7 +127,7 @@ def run(quick: bool) -> list[Result]:
                 f"<= {TARGET:g}",
                 worst <= TARGET and bool(group),
                 f"worst: {worst_what}; references: mpmath.findroot at {DIGITS} digits from our "
-                "values" + (lost if missing and label == "equilibria" else ""),
+                f"values; {where}" + (lost if missing and label == "equilibria" else ""),
             )
         )
     return results

@@ -33,7 +33,7 @@ from bench.stage_timer import stage_seconds
 REBUILD_TARGET = 1.5  # times the import floor
 PAGE_LIMIT = 1_000_000  # bytes
 SITE_PAGES = {"index", "compare", "brief"}
-QUICK_STAGE_SCENARIO = "sandhollow-aquifer"  # four ranged parameters, three maps
+QUICK_STAGE_SCENARIO = "brindle-shrimp"  # three ranged parameters, two maps
 
 
 def _rebuild_once(folder: Path, out: Path) -> tuple[float, bool]:

@@ -5,8 +5,11 @@ an Allee threshold, all under a quota; one ranged parameter, the quota), written
 folder. Each build is ``python -m sitegen build FOLDER --out OUT --jobs N`` as a
 subprocess into a fresh output folder (wall time, so interpreter start and
 imports are included once per build). Cost grows linearly when the seconds per
-scenario do not rise with the size; ``--jobs 2`` uses both cores when it builds
-10 scenarios clearly faster than ``--jobs 1``. ``--quick`` builds 1 and 10 only.
+scenario do not rise with the size. ``--jobs 2`` uses the cores when its speed-up
+over ``--jobs 1`` at 10 scenarios reaches 75% of the machine's own ceiling, measured
+in the same run: two plain CPU-bound processes at once against one (on a machine
+whose two cores are fully free that ceiling is 2; a shared or hyper-threaded one
+gives less). ``--quick`` builds 1 and 10 only.
 """
 
 from __future__ import annotations
@@ -23,7 +26,7 @@ from bench.registry import Result, benchmark
 SIZES = (1, 10, 100)
 QUICK_SIZES = (1, 10)
 SPEED_UP_SIZE = 10
-SPEED_UP_TARGET = 1.5  # of --jobs 2 over --jobs 1 on two cores
+SHARE_OF_CEILING = 0.75  # of the machine's own speed-up with two busy processes
 LINEAR_SLACK = 1.25  # seconds per scenario at the largest size over that at the next
 
 FIRST = ("Ash", "Brae", "Cald", "Dun", "Elm", "Fenn", "Gorse", "Holm", "Ivel", "Kest")
@@ -122,6 +125,27 @@ def write_scenarios(folder: Path, count: int) -> None:
         (folder / f"{stem}.toml").write_text(text, encoding="utf-8")
 
 
+SPIN = "s = 0\nfor i in range(8_000_000):\n    s += i\n"
+
+
+def parallel_ceiling() -> float:
+    """How much faster two CPU-bound processes finish together than one after the other."""
+    command = [sys.executable, "-c", SPIN]
+    alone = float("inf")
+    for _ in range(2):
+        started = time.perf_counter()
+        subprocess.run(command, check=True)
+        alone = min(alone, time.perf_counter() - started)
+    together = float("inf")
+    for _ in range(2):
+        started = time.perf_counter()
+        running = [subprocess.Popen(command) for _ in range(2)]
+        for process in running:
+            process.wait()
+        together = min(together, time.perf_counter() - started)
+    return 2 * alone / together
+
+
 def timed_build(source: Path, out: Path, jobs: int) -> float:
     """Wall time of a cold ``sitegen build`` subprocess (the output folder removed first)."""
     shutil.rmtree(out, ignore_errors=True)
@@ -148,6 +172,7 @@ def run(quick: bool) -> list[Result]:
             write_scenarios(root / f"in-{size}", size)
             seconds[size] = timed_build(root / f"in-{size}", root / f"out-{size}", jobs=2)
         one_job = timed_build(root / f"in-{SPEED_UP_SIZE}", root / "out-serial", jobs=1)
+        ceiling = parallel_ceiling()
     per = {size: seconds[size] / size for size in sizes}
     largest, previous = sizes[-1], sizes[-2]
     growth = per[largest] / per[previous]
@@ -180,9 +205,11 @@ def run(quick: bool) -> list[Result]:
             one_job,
             "--jobs 1",
             speed_up,
-            f">= {SPEED_UP_TARGET}x faster on 2 cores",
-            speed_up >= SPEED_UP_TARGET,
-            "one cold build each (wall time); a machine shared with other work lowers the "
-            "speed-up, since the second core is not always free",
+            f">= {SHARE_OF_CEILING:.0%} of the machine's two-process speed-up",
+            speed_up >= SHARE_OF_CEILING * ceiling,
+            f"one cold build each (wall time); this machine runs two CPU-bound processes "
+            f"{ceiling:.2f}x as fast as one (measured now; 2 on two free cores), so the "
+            f"target here is {SHARE_OF_CEILING * ceiling:.2f}x; each worker also imports the "
+            "libraries once, a fixed cost that weighs on 10 small scenarios",
         ),
     ]
