@@ -1,8 +1,10 @@
 """Shared helper of the page tests: one headless Debian Chromium per session, offline pages.
 
-Use it from a test module with::
+tests/conftest.py loads this module as a plugin, so every test module gets the one
+session-wide ``browser`` fixture (importing the fixture into a module would start a
+second Playwright session, which Playwright refuses). Use it with::
 
-    from browser_support import browser, open_page  # noqa: F401  (browser is a fixture)
+    from browser_support import open_page
 
     def test_something(browser, tmp_path):
         visit = open_page(browser, tmp_path / "page.html")

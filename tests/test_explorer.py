@@ -16,7 +16,7 @@ import html5lib
 import numpy as np
 import pytest
 import sympy
-from browser_support import browser, open_page  # noqa: F401  (browser is a fixture)
+from browser_support import open_page  # the browser fixture comes from conftest.py
 from continuation_support import make_model
 from scipy.integrate import solve_ivp
 from scipy.optimize import minimize_scalar
@@ -75,7 +75,7 @@ def _bundled(slug: str) -> tuple[Any, Model]:
 
 
 @pytest.fixture(scope="module")
-def pages(browser, tmp_path_factory) -> dict[str, Any]:  # noqa: F811
+def pages(browser, tmp_path_factory) -> dict[str, Any]:
     """One open page per scenario (kept for the module), and what each is built from."""
     tmp = tmp_path_factory.mktemp("explorer")
     opened: dict[str, Any] = {}
@@ -248,7 +248,7 @@ def test_keyboard_moves_a_slider_and_the_readout(pages) -> None:
 # -- the printed JavaScript against NumPy ---------------------------------------------
 
 
-def test_every_parser_function_prints_to_working_javascript(browser, tmp_path) -> None:  # noqa: F811
+def test_every_parser_function_prints_to_working_javascript(browser, tmp_path) -> None:
     """f and f_x of a model using every function the parser accepts, with parameters
     named new, Math, window and constructor, evaluated in Chromium on a grid and compared
     with the model's NumPy functions; a Piecewise (SymPy's, not the parser's) as well."""
@@ -359,7 +359,7 @@ def _identifier_in(name: str, code: str) -> bool:
     return re.search(rf"(?<![\w.]){re.escape(name)}(?!\w)", code) is not None
 
 
-def test_scripts_off_the_panel_says_it_needs_them(browser, tmp_path) -> None:  # noqa: F811
+def test_scripts_off_the_panel_says_it_needs_them(browser, tmp_path) -> None:
     scenario, model = _bundled("upland-deer")
     visit = open_page(browser, _page(tmp_path, scenario, model, "off"), javascript=False)
     try:
@@ -370,7 +370,7 @@ def test_scripts_off_the_panel_says_it_needs_them(browser, tmp_path) -> None:  #
         visit.close()
 
 
-def test_in_a_real_dossier(browser, tmp_path) -> None:  # noqa: F811
+def test_in_a_real_dossier(browser, tmp_path) -> None:
     """The panel inside a page built by `sitegen build`, under the site's own CSP.
 
     Newton's law of cooling dT/dt = -k (T - A) rests at T = A for every k (Newton 1701;
