@@ -1,13 +1,17 @@
 """Run every benchmark and print one table: figure, baseline, ratio, target, met.
 
-Usage: ``python -m bench [--quick] [--only NAME ...]``. Results are also written
-as JSON to ``bench/results/latest.json``.
+Usage: ``python -m bench [--quick] [--only NAME ...] [--json FILE]``. Results are
+also written as JSON to ``bench/results/latest.json`` (or FILE), with the machine
+(cores, Python) and the date. Every target is printed as met or not, and each one
+not met is repeated at the end with the reason.
 """
 
 from __future__ import annotations
 
 import argparse
+import datetime
 import json
+import os
 import platform
 import sys
 from dataclasses import asdict
@@ -81,6 +85,10 @@ def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(prog="python -m bench", description=__doc__)
     parser.add_argument("--quick", action="store_true", help="fewer repetitions")
     parser.add_argument("--only", nargs="*", metavar="NAME", help="run only these benchmarks")
+    parser.add_argument(
+        "--json", type=Path, default=Path(__file__).parent / "results" / "latest.json",
+        metavar="FILE", help="where the results go (default bench/results/latest.json)",
+    )  # fmt: skip
     args = parser.parse_args(argv)
     results: list[Result] = []
     ranked = sorted(BENCHMARKS, key=lambda n: ORDER.index(n) if n in ORDER else len(ORDER))
@@ -101,14 +109,15 @@ def main(argv: list[str] | None = None) -> int:
     targets = sum(not r.target.startswith("reference") for r in results)
     print(f"\n{targets - len(missed)} of {targets} targets met.")
     print("\n".join(missed))
-    out = Path(__file__).parent / "results"
-    out.mkdir(exist_ok=True)
+    args.json.parent.mkdir(parents=True, exist_ok=True)
     machine = {
+        "cores": os.cpu_count(),
+        "date": datetime.date.today().isoformat(),
         "python": platform.python_version(),
         "machine": platform.machine(),
         "processor": platform.processor() or "unknown",
     }
-    (out / "latest.json").write_text(
+    args.json.write_text(
         json.dumps(
             {"machine": machine, "quick": args.quick, "results": [asdict(r) for r in results]},
             indent=2,
