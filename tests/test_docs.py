@@ -85,3 +85,11 @@ def test_bundled_scenario_loads_with_no_warnings(path: Path) -> None:
     assert any(parameter.range is not None for parameter in scenario.parameters)
     if scenario.model.lever is not None:
         assert len(scenario.policies) >= 2
+
+
+def test_field_tags_in_the_docs_match_the_cautions() -> None:
+    from sitegen.pages.cautions import FIELD_TAGS
+
+    text = DOC.read_text(encoding="utf-8")
+    for field, words in FIELD_TAGS.items():
+        assert f"| {field} | {', '.join(sorted(words))} |" in text, field
