@@ -132,15 +132,15 @@ def test_cold_room_time_to_pass_the_safe_temperature(bundle: dict) -> None:
 
 def test_soil_half_life_and_time_to_the_target(bundle: dict) -> None:
     # First-order decay C(t) = C0 exp(-(k + a) t): half-life ln 2 / (k + a) and the
-    # target Ct reached at ln(C0 / Ct) / (k + a) (exponential decay law).
+    # guideline Ct (the soil's limit) reached at ln(C0 / Ct) / (k + a) (exponential decay law).
     scenario, d = bundle["wexley-depot-soil"]
-    start, target = scenario.state.current, scenario.reference.target
+    start, target = scenario.state.current, scenario.reference.limit
     for policy in scenario.policies:
         setting = {**values(scenario), **policy.values}
         rate = setting["k"] + setting["a"]
         milestones = row(d, policy.name)
         assert close(milestones["half_time"], math.log(2) / rate), policy.name
-        assert close(time_of(milestones, "target"), math.log(start / target) / rate)
+        assert close(time_of(milestones, "limit"), math.log(start / target) / rate)
 
 
 def test_reservoir_equilibrium_and_time_to_95_percent(bundle: dict) -> None:

@@ -212,17 +212,19 @@ def test_no_lever_cold_room(cold_room: Case) -> None:
     assert "collapse" not in text and "lever" not in text
 
 
-def test_soil_headline_states_the_time_to_its_target(soil: Case) -> None:
+def test_soil_headline_states_the_time_to_its_limit(soil: Case) -> None:
     # First-order decay C(t) = C0 exp(-(k + a) t) reaches Ct after ln(C0/Ct)/(k + a)
     # (first-order kinetics, any physical chemistry text, from memory). The story is that
-    # time, not that the soil "comes to rest at 0 mg/kg".
+    # time, not that the soil "comes to rest at 0 mg/kg". The guideline for re-use is the
+    # soil's limit: above it today, the status is past the limit until the time stated.
     scenario, summary, _ = soil
     values = {p.name: p.value for p in scenario.parameters}
-    c0, target = scenario.state.current, scenario.reference.target
+    c0, target = scenario.state.current, scenario.reference.limit
     untreated = math.log(c0 / target) / (values["k"] + values["a"])  # 10.5 years
     head = sentences.headline(summary, scenario)
     assert wording.duration(untreated, "yr") in head[0].text and "500 mg/kg" in head[0].text
     st = sentences.status(summary, scenario)
+    assert st.word == "past the limit"
     assert wording.duration(untreated, "yr") in st.reason and "2,400 mg/kg" in st.reason
     made = _all(scenario, summary)
     assert all("collapse" not in s.text and "rest at 0" not in s.text for s in made)
@@ -235,8 +237,8 @@ def test_soil_headline_states_the_time_to_its_target(soil: Case) -> None:
         assert f"{expected} with {policy.name}" in times.text
     # The options keep their resting level at zero: none "flips the state up".
     assert not [s for s in made if s.topic == "policies-lost"]
-    # The hydrocarbons are plural: "reach their target", never "reaches its".
-    assert "hydrocarbons in topsoil reach their target" in head[0].text
+    # The hydrocarbons are plural: "reach their limit", never "reaches its".
+    assert "hydrocarbons in topsoil reach their limit" in head[0].text
     assert not [s for s in head if re.search(r"(?<![\d,.])0 mg/kg", s.text)]  # zero is no news
     assert not [s for s in made if "hydrocarbons in topsoil reaches" in s.text]
 

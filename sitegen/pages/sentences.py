@@ -175,7 +175,13 @@ def status(summary: dict[str, Any], scenario: Scenario) -> Status:
     if side is not None:
         crossing = _limit_crossing(c)
         if side[0]:
-            past.append(side[1])
+            # On the wrong side today but on its way back: say when it is back inside.
+            back = (
+                f", and {c.verb('comes')} back inside it after about {c.t(crossing[2])}"
+                if crossing is not None
+                else ""
+            )
+            past.append(side[1] + back)
         elif crossing is not None:
             near.append(
                 f"the {c.state}, {c.s(crossing[0])} today, {c.verb('passes')} {c.its} limit of "
