@@ -26,6 +26,8 @@ from sitegen.pages.cautions import cautions_for
 from sitegen.pages.formulas import derivative_lhs, formula_mathml
 from sitegen.pages.markup import narrative_html, paragraphs_html
 from sitegen.pages.render import PageShell, render, site_nav, trusted_script
+from sitegen.pages.sentences_context import Context
+from sitegen.pages.sentences_levels import lever_margins
 from sitegen.pages.tables import csv_data_url, figure_table
 from sitegen.scenario.formula import to_formula
 from sitegen.scenario.records import Scenario
@@ -225,7 +227,21 @@ def scenario_card(d: DossierInput) -> dict[str, Any]:
     scenario, summary = d.scenario, d.summary
     status = words.status(summary, scenario)
     limits = summary["limits"]
-    lever_limit = limits.get("lever_limit") or {}
+    lever_limit = dict(limits.get("lever_limit") or {})
+    basis = "fold"
+    if lever_limit.get("limit") is None:
+        # No tipping point in the lever: the setting at which the resting state sits on its
+        # limit level is the limit that matters (a pumping rate, an inflow concentration).
+        held = [m for m in lever_margins(Context.of(summary, scenario)) if m["kind"] == "limit"]
+        if held:
+            margin = held[0]["margin"]
+            percent = held[0]["percent"]
+            lever_limit = {
+                "limit": held[0]["setting"],
+                "margin": margin,
+                "margin_percent": (percent if margin >= 0 else -percent) if percent else None,
+            }
+            basis = "level"
     return {
         "slug": scenario.slug,
         "title": scenario.title,
@@ -240,6 +256,7 @@ def scenario_card(d: DossierInput) -> dict[str, Any]:
         "lever_limit": lever_limit.get("limit"),
         "margin": lever_limit.get("margin"),
         "margin_percent": lever_limit.get("margin_percent"),
+        "limit_basis": basis,
         "units": dict(summary["units"]),
         "better": scenario.state.better,
         "state_symbol": scenario.state.symbol,

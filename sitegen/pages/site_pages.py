@@ -38,10 +38,11 @@ def _lever_text(card: Card) -> tuple[str, str, str]:
     today = f"{card['lever']} = {wording.quantity(card['lever_value'], unit)}"
     if card.get("lever_limit") is None:
         return (today, "none found in the range", "–")
+    mark = " †" if card.get("limit_basis") == "level" else ""
     margin = wording.quantity(card.get("margin"), unit)
     if card.get("margin_percent") is not None:
         margin += f" ({wording.number(card['margin_percent'])}%)"
-    return (today, wording.quantity(card["lever_limit"], unit), margin)
+    return (today, wording.quantity(card["lever_limit"], unit) + mark, margin)
 
 
 def render_index(cards: Sequence[Card], failures: Sequence[Failure], version: str) -> str:
