@@ -30,7 +30,6 @@ from collections.abc import Callable, Sequence
 from dataclasses import replace
 
 import numpy as np
-from scipy.integrate import solve_ivp
 from scipy.optimize import brentq
 
 from sitegen.analysis.equilibria import find_equilibria
@@ -46,7 +45,7 @@ from sitegen.dynamics.records import (
     Milestone,
     Milestones,
 )
-from sitegen.dynamics.trajectories import HORIZON_FACTOR, MAX_EXTENSIONS, attractor_of, time_scale
+from sitegen.dynamics.trajectories import HORIZON_FACTOR, attractor_of, segments, time_scale
 from sitegen.model.model import Model, build_model
 from sitegen.scenario.records import Scenario
 
@@ -131,29 +130,16 @@ def _run_times(
     events += [_crossing(stop, sign, True) for stop in stops]
     found: list[float | None] = [None] * len(levels)
     span = max(abs(low), abs(high), high - low)
-    t0, y0 = 0.0, start
     end = HORIZON_FACTOR * time_scale(model, equilibria)
-    for _ in range(MAX_EXTENSIONS + 1):
-        solution = solve_ivp(
-            fun,
-            (t0, end),
-            [y0],
-            method="LSODA",
-            jac=jac,
-            events=events,
-            rtol=RTOL,
-            atol=ATOL_RELATIVE * span,
-        )
+    t_end = 0.0
+    for solution in segments(fun, jac, start, end, events, RTOL, ATOL_RELATIVE * span):
         if solution.status < 0:
             raise RuntimeError(f"the solver stopped: {solution.message}")
         for index, hits in enumerate(solution.t_events[: len(levels)]):
             if hits.size and found[index] is None:
                 found[index] = float(hits[0])
-        t0, y0 = float(solution.t[-1]), float(solution.y[0, -1])
-        if solution.status == 1:
-            break
-        end = t0 + 2.0 * (t0 if t0 > 0 else 1.0)
-    return found, t0
+        t_end = float(solution.t[-1])
+    return found, t_end
 
 
 def milestones_of(

@@ -22,7 +22,8 @@ Events, all times in the model's ``time_unit`` from the start:
 
 from __future__ import annotations
 
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterator, Sequence
+from typing import Any
 
 import numpy as np
 from scipy.integrate import solve_ivp
@@ -107,6 +108,33 @@ def _band_event(centre: float, width: float, terminal: bool) -> EventFunction:
     event.direction = -1.0  # type: ignore[attr-defined]
     event.terminal = terminal  # type: ignore[attr-defined]
     return event
+
+
+def segments(
+    fun: Callable[..., Any],
+    jac: Callable[..., Any],
+    start: float,
+    end: float,
+    events: Sequence[EventFunction],
+    rtol: float,
+    atol: float,
+) -> Iterator[Any]:
+    """``solve_ivp`` runs from ``start`` at t = 0, the horizon doubling after each one.
+
+    Yields each run's solution; stops after a terminal event (status 1), a solver
+    failure (status below 0, for the caller to report) or ``MAX_EXTENSIONS``
+    extensions. LSODA switches to a stiff method where the rate is stiff.
+    """
+    t0, y0 = 0.0, start
+    for _ in range(MAX_EXTENSIONS + 1):
+        solution = solve_ivp(
+            fun, (t0, end), [y0], method="LSODA", jac=jac, events=events, rtol=rtol, atol=atol
+        )
+        yield solution
+        if solution.status != 0:
+            return
+        t0, y0 = float(solution.t[-1]), float(solution.y[0, -1])
+        end = t0 + 2.0 * (t0 if t0 > 0 else 1.0)
 
 
 def integrate(
@@ -194,26 +222,17 @@ def integrate(
 
     span = max(abs(low), abs(high), high - low)
     end = horizon if horizon is not None else HORIZON_FACTOR * time_scale(model, equilibria)
-    t0, y0 = 0.0, start
     times: list[np.ndarray] = []
     states: list[np.ndarray] = []
     fate, note = STILL_MOVING, ""
-    for _ in range(MAX_EXTENSIONS + 1):
-        solution = solve_ivp(
-            fun,
-            (t0, end),
-            [y0],
-            method="LSODA",
-            jac=jac,
-            events=events,
-            rtol=RTOL,
-            atol=ATOL_RELATIVE * span,
-        )
+    t_end = 0.0
+    for solution in segments(fun, jac, start, end, events, RTOL, ATOL_RELATIVE * span):
         if solution.status < 0:
             note = f"the solver stopped: {solution.message}"
             break
         times.append(solution.t)
         states.append(solution.y[0])
+        t_end = float(solution.t[-1])
         for (kind, at_level), hits in zip(kinds, solution.t_events, strict=True):
             if hits.size and not any(e.kind == kind and e.level == at_level for e in found):
                 found.append(Event(kind, at_level, float(hits[0])))
@@ -221,10 +240,8 @@ def integrate(
             stop = {e.kind for e in found}
             fate = COLLAPSES if COLLAPSE in stop else LEAVES if UPPER_END in stop else SETTLES
             break
-        t0, y0 = float(solution.t[-1]), float(solution.y[0, -1])
-        end = t0 + 2.0 * (t0 if t0 > 0 else 1.0)
     else:
-        note = f"still moving at t = {t0:.6g} {model.time_unit}"
+        note = f"still moving at t = {t_end:.6g} {model.time_unit}"
     found.sort(key=lambda e: e.time)
     return Trajectory(
         start,
