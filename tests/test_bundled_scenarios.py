@@ -234,3 +234,22 @@ def test_every_page_carries_the_cautions_of_its_field(demo_site) -> None:
     assert "cold-chain rules" in (out / "tamsin-cold-room.html").read_text("utf-8")
     assert "aviation rules" in (out / "corrie-airdrop.html").read_text("utf-8")
     assert "water-quality decisions" in (out / "penhallow-reservoir.html").read_text("utf-8")
+
+
+def test_no_lever_limit_outside_the_range_studied_is_printed(bundle, demo_site) -> None:
+    # The airdrop has no tipping point in the bundle mass: the sampled "limits" lie far
+    # outside the masses searched (an extrapolation of the search, not a result), so the
+    # dossier must not print them as figures (common practice, no source: report only what
+    # was computed inside the range studied).
+    from sitegen.pages import wording
+
+    out, _ = demo_site
+    _, d = bundle["corrie-airdrop"]
+    base = next(o for o in d["uncertainty"]["outcomes"] if o["name"] == "base")
+    low, high = base["lever_search"]
+    assert not low <= base["lever_limit"]["p50"] <= high  # the case this test is about
+    page = (out / "corrie-airdrop.html").read_text("utf-8")
+    section = page.split('id="uncertainty"')[1].split('id="assumptions"')[0]
+    assert "beyond the range studied" in section
+    for value in (base["lever_limit"]["p05"], base["lever_limit"]["p50"], base["safe_lever"]):
+        assert wording.quantity(value, "kg") not in section

@@ -209,6 +209,14 @@ def uncertainty_table(summary: Mapping[str, Any]) -> TableView | None:
     for o in outcomes:
         state = o.get("stable_state") or {}
         limit = o.get("lever_limit") or {}
+        search = o.get("lever_search")
+
+        def lever_cell(value: Any, o_search: Any = search) -> Cell:
+            # A limit found outside the range searched is an extrapolation, not a result.
+            if value is not None and o_search and not o_search[0] <= value <= o_search[1]:
+                return Cell("beyond the range studied")
+            return cell(value, unit=units.get("lever", ""))
+
         rows.append(
             (
                 row_heading(str(o["name"])),
@@ -216,9 +224,9 @@ def uncertainty_table(summary: Mapping[str, Any]) -> TableView | None:
                 cell(state.get("p05"), unit=units["state"]),
                 cell(state.get("p50"), unit=units["state"]),
                 cell(state.get("p95"), unit=units["state"]),
-                cell(limit.get("p05"), unit=units.get("lever", "")),
-                cell(limit.get("p50"), unit=units.get("lever", "")),
-                cell(o.get("safe_lever"), unit=units.get("lever", "")),
+                lever_cell(limit.get("p05")),
+                lever_cell(limit.get("p50")),
+                lever_cell(o.get("safe_lever")),
             )
         )
     headers = (
