@@ -26,7 +26,7 @@ and a note, never with a guessed time.
 
 from __future__ import annotations
 
-from collections.abc import Callable, Sequence
+from collections.abc import Sequence
 from dataclasses import replace
 
 import numpy as np
@@ -45,7 +45,14 @@ from sitegen.dynamics.records import (
     Milestone,
     Milestones,
 )
-from sitegen.dynamics.trajectories import HORIZON_FACTOR, attractor_of, segments, time_scale
+from sitegen.dynamics.trajectories import (
+    HORIZON_FACTOR,
+    EventFunction,
+    attractor_of,
+    rate_functions,
+    segments,
+    time_scale,
+)
 from sitegen.model.model import Model, build_model
 from sitegen.scenario.records import Scenario
 
@@ -56,8 +63,6 @@ FRACTIONS = ((HALF_WAY, 0.5), (MOST_OF_THE_WAY, 0.95))
 REFERENCE_KINDS = ("limit", "trigger", "target")
 LEVER_SCAN = 2049  # lever values scanned for sign changes of f(level; lever)
 
-EventFunction = Callable[[float, np.ndarray], float]
-
 
 def reference_levels(scenario: Scenario) -> list[tuple[str, float]]:
     """The declared ``[reference]`` levels as (kind, level in state units)."""
@@ -66,31 +71,6 @@ def reference_levels(scenario: Scenario) -> list[tuple[str, float]]:
         return []
     found = [(kind, getattr(reference, kind)) for kind in REFERENCE_KINDS]
     return [(kind, float(level)) for kind, level in found if level is not None]
-
-
-def _rate_functions(
-    model: Model,
-) -> tuple[Callable[[float, np.ndarray], np.ndarray], Callable[[float, np.ndarray], np.ndarray]]:
-    """Right-hand side and Jacobian for solve_ivp, evaluated just inside the lower end
-    when a step overshoots it (rates such as r*B*log(K/B) are undefined below 0)."""
-    low, high = model.region
-    inside = low + 1e-12 * (high - low)
-    args = model.args()
-    rate, slope = model.numeric(), model.numeric(1)
-
-    def fun(_t: float, y: np.ndarray) -> np.ndarray:
-        with np.errstate(all="ignore"):
-            value = np.asarray(rate(y, *args), dtype=float) + 0.0 * y
-            if not np.all(np.isfinite(value)):
-                value = np.asarray(rate(np.maximum(y, inside), *args), dtype=float) + 0.0 * y
-        return np.atleast_1d(value)
-
-    def jac(_t: float, y: np.ndarray) -> np.ndarray:
-        with np.errstate(all="ignore"):
-            value = float(np.asarray(slope(max(float(y[0]), inside), *args), dtype=float))
-        return np.atleast_2d(value if np.isfinite(value) else 0.0)
-
-    return fun, jac
 
 
 def _crossing(level: float, direction: float, terminal: bool) -> EventFunction:
@@ -124,7 +104,7 @@ def _run_times(
     horizon starts at ``HORIZON_FACTOR`` time scales and doubles as needed.
     """
     low, high = model.region
-    fun, jac = _rate_functions(model)
+    fun, jac = rate_functions(model)
     furthest = max(levels, key=lambda level: abs(level - start))
     events = [_crossing(level, sign, level == furthest) for level in levels]
     events += [_crossing(stop, sign, True) for stop in stops]

@@ -110,6 +110,37 @@ def _band_event(centre: float, width: float, terminal: bool) -> EventFunction:
     return event
 
 
+def rate_functions(
+    model: Model,
+) -> tuple[Callable[[float, np.ndarray], np.ndarray], Callable[[float, np.ndarray], np.ndarray]]:
+    """Right-hand side and Jacobian of ``model`` for ``solve_ivp``.
+
+    A step may overshoot the lower end before an event stops the run; rates such
+    as r*B*log(K/B) are undefined there, so they are evaluated at the nearest
+    inside point instead.
+    """
+    low, high = model.region
+    inside = low + 1e-12 * (high - low)
+    args = model.args()
+    rate, slope = model.numeric(), model.numeric(1)
+
+    def fun(_t: float, y: np.ndarray) -> np.ndarray:
+        with np.errstate(all="ignore"):
+            value = np.asarray(rate(y, *args), dtype=float) + 0.0 * y
+            if not np.all(np.isfinite(value)):
+                value = np.asarray(rate(np.maximum(y, inside), *args), dtype=float) + 0.0 * y
+        return np.atleast_1d(value)
+
+    def jac(_t: float, y: np.ndarray) -> np.ndarray:
+        with np.errstate(all="ignore"):
+            value = float(np.asarray(slope(y[0], *args), dtype=float))
+            if not np.isfinite(value):
+                value = float(np.asarray(slope(max(float(y[0]), inside), *args), dtype=float))
+        return np.atleast_2d(value if np.isfinite(value) else 0.0)
+
+    return fun, jac
+
+
 def segments(
     fun: Callable[..., Any],
     jac: Callable[..., Any],
@@ -160,27 +191,7 @@ def integrate(
     if thresholds is None:
         thresholds = [e.value for e in equilibria if e.stability != STABLE and low < e.value < high]
     attractor = attractor_of(model, start, equilibria)
-    args = model.args()
-    rate = model.numeric()
-    slope = model.numeric(1)
-
-    # A step may overshoot the lower end before the collapse event stops the run; rates
-    # such as r*B*log(K/B) are undefined there, so evaluate at the nearest inside point.
-    inside = low + 1e-12 * (high - low)
-
-    def fun(_t: float, y: np.ndarray) -> np.ndarray:
-        with np.errstate(all="ignore"):
-            value = np.asarray(rate(y, *args), dtype=float) + 0.0 * y
-            if not np.all(np.isfinite(value)):
-                value = np.asarray(rate(np.maximum(y, inside), *args), dtype=float) + 0.0 * y
-        return np.atleast_1d(value)
-
-    def jac(_t: float, y: np.ndarray) -> np.ndarray:
-        with np.errstate(all="ignore"):
-            value = float(np.asarray(slope(y[0], *args), dtype=float))
-            if not np.isfinite(value):
-                value = float(np.asarray(slope(max(float(y[0]), inside), *args), dtype=float))
-        return np.atleast_2d(value if np.isfinite(value) else 0.0)
+    fun, jac = rate_functions(model)
 
     events: list[EventFunction] = [_level_event(level, -1.0, True), _level_event(high, 1.0, True)]
     kinds: list[tuple[str, float]] = [(COLLAPSE, level), (UPPER_END, high)]
