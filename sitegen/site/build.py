@@ -28,7 +28,7 @@ from multiprocessing import get_context
 from pathlib import Path
 
 from sitegen.site import cache
-from sitegen.site.worker import ScenarioBuild, build_scenario
+from sitegen.site.worker import ScenarioBuild, build_scenario, preload
 
 MARKER = ".sitegen-build"
 RESERVED = frozenset({"index", "compare", "brief"})
@@ -142,7 +142,9 @@ def _run_jobs(
             results.append(build_scenario(str(j.path), j.slug, j.key, budget_s, version))
             say(_progress_line(results[-1]))
         return results
-    # Fork: workers inherit the loaded modules; the SymPy worker inside each forks again.
+    # Fork: workers inherit the modules loaded here once instead of each importing them;
+    # the SymPy worker inside each forks again.
+    preload()
     with ProcessPoolExecutor(
         max_workers=min(workers, len(todo)), mp_context=get_context("fork")
     ) as pool:

@@ -67,6 +67,22 @@ def _explorer(
     return Markup(panel.html), panel.script, None
 
 
+def preload() -> None:
+    """Import every stage now, so worker processes forked afterwards start with them loaded.
+
+    Called by the build only when there is something to build; a no-change rebuild
+    never pays for these imports.
+    """
+    import sitegen.dynamics.assess
+    import sitegen.dynamics.report
+    import sitegen.figures.fit
+    import sitegen.figures.registry
+    import sitegen.fitting.fit
+    import sitegen.pages.dossier
+    import sitegen.pages.explorer
+    import sitegen.scenario.loader  # noqa: F401  (imported for its side effect: loaded modules)
+
+
 def build_scenario(path: str, slug: str, key: str, budget_s: float, version: str) -> ScenarioBuild:
     """Build one scenario's dossier, JSON summary and card (never raises for bad input)."""
     seconds: dict[str, float] = {}
